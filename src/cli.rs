@@ -1,0 +1,120 @@
+//! The command line: clap arguments as typed, turned into library calls.
+//!
+//! This is the only module that prints or decides an exit code:
+//! 0 success; 1 the data were read but the fit or comparison was rejected with a diagnosis;
+//! 2 bad input, bad usage or an I/O failure.
+//! Each subcommand lives in its own file under `cli/`.
+
+#![allow(clippy::print_stdout, clippy::print_stderr)]
+
+mod check;
+mod simulate;
+
+use std::ffi::OsString;
+use std::process::ExitCode;
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::data::LoadOptions;
+
+/// Error that ends a command: the message printed, and the exit code.
+#[derive(Debug)]
+pub struct Failure {
+    /// Exit code (1 rejected fit, 2 bad input or usage).
+    pub code: u8,
+    /// One-line message, printed after `swingfit: `.
+    pub message: String,
+}
+
+impl Failure {
+    /// Bad input, usage or I/O: exit 2.
+    pub fn input(message: impl std::fmt::Display) -> Failure {
+        Failure { code: 2, message: message.to_string() }
+    }
+    /// The data were read but the result is rejected: exit 1.
+    pub fn rejected(message: impl std::fmt::Display) -> Failure {
+        Failure { code: 1, message: message.to_string() }
+    }
+}
+
+/// Result of a subcommand.
+pub type CmdResult = Result<(), Failure>;
+
+#[derive(Parser, Debug)]
+#[command(name = "swingfit", version, about = "Moment of inertia and damping of a swinging test article, from its angle logs")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Load and validate one log and summarise it.
+    Check(check::CheckArgs),
+    /// Integrate the pendulum model and write a log.
+    Simulate(simulate::SimulateArgs),
+}
+
+/// Loader options shared by every command that reads logs.
+#[derive(Args, Debug, Clone, Default)]
+pub struct LoaderArgs {
+    /// Time column: header name or 1-based index (default: detected from the header).
+    #[arg(long, value_name = "NAME|N")]
+    pub time_col: Option<String>,
+    /// Angle column: header name or 1-based index (default: detected from the header).
+    #[arg(long, value_name = "NAME|N")]
+    pub angle_col: Option<String>,
+    /// Time unit when the header has no suffix: s, ms or us.
+    #[arg(long, value_name = "UNIT")]
+    pub time_unit: Option<String>,
+    /// Angle unit when the header has no suffix: rad, deg or counts.
+    #[arg(long, value_name = "UNIT")]
+    pub angle_unit: Option<String>,
+    /// Encoder counts per revolution, counting edges (quadrature: 4 × lines).
+    #[arg(long, value_name = "N")]
+    pub counts_per_rev: Option<f64>,
+    /// Drop rows with unparseable or non-finite values (reported) instead of refusing the file.
+    #[arg(long)]
+    pub drop_bad_rows: bool,
+}
+
+impl LoaderArgs {
+    /// The library's view of these options.
+    pub fn options(&self) -> LoadOptions {
+        LoadOptions {
+            time_col: self.time_col.clone(),
+            angle_col: self.angle_col.clone(),
+            time_unit: self.time_unit.clone(),
+            angle_unit: self.angle_unit.clone(),
+            counts_per_rev: self.counts_per_rev,
+            drop_bad_rows: self.drop_bad_rows,
+        }
+    }
+}
+
+/// Run the program on `args` (including the program name) and return the exit code.
+pub fn main<I, T>(args: I) -> ExitCode
+where
+    I: IntoIterator<Item = T>,
+    T: Into<OsString> + Clone,
+{
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    let result = match cli.command {
+        Command::Check(a) => check::run(&a),
+        Command::Simulate(a) => simulate::run(&a),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(f) => {
+            eprintln!("swingfit: {}", f.message);
+            ExitCode::from(f.code)
+        }
+    }
+}

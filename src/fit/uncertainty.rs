@@ -1,0 +1,1 @@
+//! Covariance, standard errors, confidence intervals, flags for unidentifiable terms.

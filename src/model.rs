@@ -1,0 +1,310 @@
+//! The compound-pendulum model: what is integrated and what is fitted.
+//!
+//! Equation of motion about the pivot, with θ the measured angle and θeq the angle the article
+//! hangs at when it rests:
+//!
+//! J θ'' = −m g d sin(θ − θeq) − c θ' − τc sgn θ' − cq θ'|θ'|
+//!
+//! Free decay can only identify the coefficients *per unit inertia*, so the model works in that
+//! view ([`Physics`]): ωn² = m g d / J, viscous b1 = c/J [1/s], Coulomb b0 = τc/J [rad/s²],
+//! quadratic b2 = cq/J [1/rad]. The physical view (J, c, τc, cq) needs m, d and g and lives in
+//! [`crate::physical`]; the one conversion between the two views is there.
+//!
+//! Each damping mechanism is a [`Term`]. A model is a [`DampingSet`] of terms; everything a term
+//! contributes to the equations (its acceleration, its partial derivatives, its name and units) is
+//! written once, in the `match` arms of [`Term`]'s methods, so a new mechanism is one new variant.
+
+use std::fmt;
+
+/// One damping mechanism of the pendulum.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Term {
+    /// Viscous (linear in velocity): b1·ω.
+    Viscous,
+    /// Coulomb (dry) friction: b0·sgn ω, with true stick–slip.
+    Coulomb,
+    /// Quadratic (velocity squared, aerodynamic): b2·ω|ω|.
+    Quadratic,
+}
+
+impl Term {
+    /// Every term, in the canonical order used for parameter vectors and reports.
+    pub const ALL: [Term; 3] = [Term::Viscous, Term::Coulomb, Term::Quadratic];
+
+    /// Index of the term in [`Term::ALL`].
+    pub fn index(self) -> usize {
+        match self {
+            Term::Viscous => 0,
+            Term::Coulomb => 1,
+            Term::Quadratic => 2,
+        }
+    }
+
+    /// The name used on the command line and as JSON key.
+    pub fn name(self) -> &'static str {
+        match self {
+            Term::Viscous => "viscous",
+            Term::Coulomb => "coulomb",
+            Term::Quadratic => "quadratic",
+        }
+    }
+
+    /// Parse a name as given on the command line (case-insensitive).
+    pub fn parse(s: &str) -> Option<Term> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "viscous" | "v" => Some(Term::Viscous),
+            "coulomb" | "dry" | "c" => Some(Term::Coulomb),
+            "quadratic" | "q" => Some(Term::Quadratic),
+            _ => None,
+        }
+    }
+
+    /// Unit of the per-unit-inertia coefficient.
+    pub fn normalized_unit(self) -> &'static str {
+        match self {
+            Term::Viscous => "1/s",
+            Term::Coulomb => "rad/s^2",
+            Term::Quadratic => "1/rad",
+        }
+    }
+
+    /// Unit of the physical coefficient (coefficient times J).
+    pub fn physical_unit(self) -> &'static str {
+        match self {
+            Term::Viscous => "N*m*s/rad",
+            Term::Coulomb => "N*m",
+            Term::Quadratic => "N*m*s^2/rad^2",
+        }
+    }
+
+    /// Symbol used in prose and tables.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Term::Viscous => "b1",
+            Term::Coulomb => "b0",
+            Term::Quadratic => "b2",
+        }
+    }
+
+    /// Deceleration this term contributes, per unit inertia, for coefficient `coef`, angular
+    /// velocity `omega` and direction of motion `dir` (+1 or −1; the sign Coulomb friction opposes,
+    /// held fixed between velocity reversals so that friction never chatters).
+    /// The equation of motion subtracts it: θ'' = −ωn² sin(θ−θeq) − Σ accel.
+    #[inline]
+    pub fn accel(self, coef: f64, omega: f64, dir: f64) -> f64 {
+        match self {
+            Term::Viscous => coef * omega,
+            Term::Coulomb => coef * dir,
+            Term::Quadratic => coef * omega * omega.abs(),
+        }
+    }
+
+    /// ∂accel/∂ω.
+    #[inline]
+    pub fn daccel_domega(self, coef: f64, omega: f64) -> f64 {
+        match self {
+            Term::Viscous => coef,
+            Term::Coulomb => 0.0,
+            Term::Quadratic => 2.0 * coef * omega.abs(),
+        }
+    }
+
+    /// ∂accel/∂coef.
+    #[inline]
+    pub fn daccel_dcoef(self, omega: f64, dir: f64) -> f64 {
+        match self {
+            Term::Viscous => omega,
+            Term::Coulomb => dir,
+            Term::Quadratic => omega * omega.abs(),
+        }
+    }
+}
+
+impl fmt::Display for Term {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// A non-empty or empty set of damping terms, iterated in canonical order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, PartialOrd, Ord)]
+pub struct DampingSet(u8);
+
+impl DampingSet {
+    /// The set with no terms (undamped pendulum).
+    pub const EMPTY: DampingSet = DampingSet(0);
+    /// All three terms.
+    pub const FULL: DampingSet = DampingSet(0b111);
+
+    /// Build from a list of terms.
+    pub fn from_terms(terms: &[Term]) -> DampingSet {
+        DampingSet(terms.iter().fold(0, |m, t| m | (1 << t.index())))
+    }
+
+    /// Parse a comma-separated list such as `viscous,coulomb`.
+    pub fn parse(s: &str) -> Result<DampingSet, String> {
+        let mut set = DampingSet::EMPTY;
+        for part in s.split(',').filter(|p| !p.trim().is_empty()) {
+            match Term::parse(part) {
+                Some(t) => set = set.with(t),
+                None => {
+                    return Err(format!(
+                        "unknown damping term \"{}\"; expected viscous, coulomb or quadratic",
+                        part.trim()
+                    ));
+                }
+            }
+        }
+        if set.is_empty() {
+            return Err("empty damping set; expected one or more of viscous, coulomb, quadratic".into());
+        }
+        Ok(set)
+    }
+
+    /// This set plus `t`.
+    pub fn with(self, t: Term) -> DampingSet {
+        DampingSet(self.0 | (1 << t.index()))
+    }
+
+    /// This set without `t`.
+    pub fn without(self, t: Term) -> DampingSet {
+        DampingSet(self.0 & !(1 << t.index()))
+    }
+
+    /// Whether `t` is in the set.
+    pub fn contains(self, t: Term) -> bool {
+        self.0 & (1 << t.index()) != 0
+    }
+
+    /// Whether the set is empty.
+    pub fn is_empty(self) -> bool {
+        self.0 == 0
+    }
+
+    /// Number of terms.
+    pub fn len(self) -> usize {
+        self.0.count_ones() as usize
+    }
+
+    /// Whether `self` is a subset of `other`.
+    pub fn is_subset(self, other: DampingSet) -> bool {
+        self.0 & !other.0 == 0
+    }
+
+    /// The terms in canonical order.
+    pub fn iter(self) -> impl Iterator<Item = Term> {
+        Term::ALL.into_iter().filter(move |t| self.contains(*t))
+    }
+
+    /// The seven non-empty subsets of the three terms, smallest first.
+    pub fn all_nonempty() -> Vec<DampingSet> {
+        let mut v: Vec<DampingSet> = (1u8..8).map(DampingSet).collect();
+        v.sort_by_key(|s| (s.len(), s.0));
+        v
+    }
+
+    /// Names in canonical order, e.g. `["viscous", "coulomb"]`.
+    pub fn names(self) -> Vec<&'static str> {
+        self.iter().map(Term::name).collect()
+    }
+}
+
+impl fmt::Display for DampingSet {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.is_empty() {
+            return f.write_str("none");
+        }
+        f.write_str(&self.names().join("+"))
+    }
+}
+
+/// Physics of one article, per unit inertia: what free decay identifies.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Physics {
+    /// Small-amplitude natural frequency ωn = √(m g d / J) [rad/s].
+    pub omega_n: f64,
+    /// Damping coefficients indexed by [`Term::index`]: b1 [1/s], b0 [rad/s²], b2 [1/rad].
+    pub damping: [f64; 3],
+    /// Static (breakaway) Coulomb level per unit inertia [rad/s²], ≥ the kinetic b0. `None`
+    /// means equal to the kinetic level.
+    pub breakaway: Option<f64>,
+}
+
+impl Physics {
+    /// Undamped pendulum with natural frequency `omega_n`.
+    pub fn undamped(omega_n: f64) -> Physics {
+        Physics { omega_n, damping: [0.0; 3], breakaway: None }
+    }
+
+    /// Coefficient of `t`.
+    pub fn coef(&self, t: Term) -> f64 {
+        self.damping[t.index()]
+    }
+
+    /// Set the coefficient of `t`, returning the modified value.
+    pub fn with_coef(mut self, t: Term, v: f64) -> Physics {
+        self.damping[t.index()] = v;
+        self
+    }
+
+    /// The terms with non-zero coefficients.
+    pub fn active_terms(&self) -> DampingSet {
+        DampingSet::from_terms(&Term::ALL.into_iter().filter(|t| self.coef(*t) != 0.0).collect::<Vec<_>>())
+    }
+
+    /// Static friction level per unit inertia used by the stick test.
+    pub fn static_level(&self) -> f64 {
+        self.breakaway.unwrap_or(0.0).max(self.coef(Term::Coulomb))
+    }
+
+    /// Angular acceleration θ'' for angle `theta`, velocity `omega`, direction `dir` (±1)
+    /// and equilibrium `equilibrium`.
+    #[inline]
+    pub fn accel(&self, theta: f64, omega: f64, dir: f64, equilibrium: f64) -> f64 {
+        let mut a = -self.omega_n * self.omega_n * (theta - equilibrium).sin();
+        for t in Term::ALL {
+            let c = self.damping[t.index()];
+            if c != 0.0 {
+                a -= t.accel(c, omega, dir);
+            }
+        }
+        a
+    }
+
+    /// Check that every value is finite and non-negative (ωn > 0); names the field at fault.
+    pub fn validate(&self) -> Result<(), String> {
+        if !(self.omega_n.is_finite() && self.omega_n > 0.0) {
+            return Err(format!("omega_n must be a finite number > 0, found {}", self.omega_n));
+        }
+        for t in Term::ALL {
+            let c = self.coef(t);
+            if !(c.is_finite() && c >= 0.0) {
+                return Err(format!("{} must be a finite number >= 0, found {}", t.name(), c));
+            }
+        }
+        if let Some(b) = self.breakaway {
+            if !(b.is_finite() && b >= self.coef(Term::Coulomb)) {
+                return Err(format!(
+                    "breakaway must be finite and >= coulomb ({}), found {}",
+                    self.coef(Term::Coulomb),
+                    b
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// The per-run state: where the article rests and how it was released.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Release {
+    /// Equilibrium angle θeq [rad], in the log's angle frame.
+    pub equilibrium: f64,
+    /// Angle at the first sample time [rad], in the log's frame.
+    pub angle: f64,
+    /// Angular velocity at the first sample time [rad/s].
+    pub velocity: f64,
+}
+
+/// Number of per-run parameters in [`Release`] (equilibrium, angle, velocity).
+pub const RELEASE_PARAMS: usize = 3;

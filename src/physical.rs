@@ -1,0 +1,1 @@
+//! Physical coefficients from per-unit-inertia ones: gravity, parallel axis, GUM propagation.

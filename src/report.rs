@@ -1,0 +1,1 @@
+//! Reports: terminal tables, JSON wire formats, plots, the coefficient sheet.

@@ -1,0 +1,1 @@
+//! Statistics shared by the estimator and the comparison: distributions, whiteness, information criteria.

@@ -1,0 +1,1 @@
+//! Units of time and angle in logs, and their conversion to SI.

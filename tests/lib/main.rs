@@ -1,0 +1,10 @@
+//! Library-level tests, one module per stage, checked against outside sources where named.
+
+mod compare;
+mod data;
+mod fit;
+mod integrate;
+mod lm;
+mod physical;
+mod report;
+mod stats;
