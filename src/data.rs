@@ -8,6 +8,7 @@
 //! downstream may assume a fixed rate.
 
 pub mod survey;
+pub mod write;
 
 use std::path::Path;
 

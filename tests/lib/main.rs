@@ -6,5 +6,6 @@ mod fit;
 mod integrate;
 mod lm;
 mod physical;
+mod reference;
 mod report;
 mod stats;

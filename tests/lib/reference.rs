@@ -1,0 +1,1 @@
+//! Library tests: trajectories against the committed SciPy reference (tests/reference/).
