@@ -1,0 +1,2 @@
+//! Criterion benchmarks: fit.
+fn main() {}

@@ -1,0 +1,2 @@
+//! Criterion benchmarks: simulate.
+fn main() {}
