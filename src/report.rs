@@ -1,1 +1,3 @@
 //! Reports: terminal tables, JSON wire formats, plots, the coefficient sheet.
+
+pub mod atomic;
