@@ -8,6 +8,7 @@
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
 mod check;
+pub mod fit;
 mod simulate;
 
 use std::ffi::OsString;
@@ -53,6 +54,8 @@ enum Command {
     Check(check::CheckArgs),
     /// Integrate the pendulum model and write a log.
     Simulate(simulate::SimulateArgs),
+    /// Fit the logs of one article and report its coefficients with intervals.
+    Fit(fit::FitArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -109,6 +112,7 @@ where
     let result = match cli.command {
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
+        Command::Fit(a) => fit::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,0 +1,265 @@
+//! JSON wire formats, serialize-only; the core types are not `Serialize`.
+//!
+//! ## Wire format `swingfit.fit.v1`
+//! ```text
+//! { "schema": "swingfit.fit.v1",
+//!   "damping": ["viscous", "coulomb"],            fitted terms, canonical order
+//!   "normalized": { "omega_n": P, "viscous": P, "coulomb": P, "quadratic": P },   per unit inertia
+//!   "physical":   { "inertia_pivot": P, "inertia_cg": P, "radius_gyration_pivot": P,
+//!                   "radius_gyration_cg": P, "equivalent_length": P,
+//!                   "viscous": P, "coulomb": P, "quadratic": P },  only with mass and pivot-to-CG
+//!   "gravity": { "value": g, "std": u, "source": "…" },           only with `physical`
+//!   "runs": [ { "file", "samples", "equilibrium": P, "initial_angle": P, "initial_velocity": P,
+//!               "rms_residual", "noise_floor", "ljung_box_p" } ],
+//!   "fit": { "converged", "iterations", "iterations_total", "rss", "dof", "samples",
+//!            "convergence", "condition_number", "interval_method", "t95" },
+//!   "correlation": { "names": […], "matrix": [[…]] },
+//!   "flags": ["…"] }
+//! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
+//! ```
+//! Units: omega_n rad/s; normalized viscous 1/s, coulomb rad/s², quadratic 1/rad; physical inertia
+//! kg·m², viscous N·m·s/rad, coulomb N·m, quadratic N·m·s²/rad²; angles rad; velocity rad/s; rss rad².
+//! Terms not fitted are absent. `swingfit simulate --params` reads this file back.
+
+use serde::Serialize;
+
+use crate::fit::{Estimate, FitOutcome};
+use crate::model::Term;
+use crate::physical::PhysicalResult;
+
+/// Schema tag of the fit JSON.
+pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
+
+/// A value with its uncertainty, on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct P {
+    /// Best estimate.
+    pub value: f64,
+    /// Standard uncertainty.
+    pub std: f64,
+    /// 95 % interval (for physical values: value ± expanded uncertainty, k = 2).
+    pub ci95: [f64; 2],
+    /// SI unit.
+    pub unit: String,
+    /// Expanded uncertainty U = k·u with k = 2 (physical values only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expanded_k2: Option<f64>,
+}
+
+impl From<&Estimate> for P {
+    fn from(e: &Estimate) -> P {
+        P { value: e.value, std: e.std, ci95: [e.ci95.0, e.ci95.1], unit: e.unit.to_string(), expanded_k2: None }
+    }
+}
+
+impl From<&crate::physical::Quantity> for P {
+    fn from(q: &crate::physical::Quantity) -> P {
+        P {
+            value: q.value,
+            std: q.std,
+            ci95: [q.value - q.expanded, q.value + q.expanded],
+            unit: q.unit.to_string(),
+            expanded_k2: Some(q.expanded),
+        }
+    }
+}
+
+/// Per-unit-inertia block.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Normalized {
+    /// ωn.
+    pub omega_n: P,
+    /// b1.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub viscous: Option<P>,
+    /// b0.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub coulomb: Option<P>,
+    /// b2.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub quadratic: Option<P>,
+}
+
+/// Physical block.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Physical {
+    /// J about the pivot.
+    pub inertia_pivot: P,
+    /// J about the centre of gravity.
+    pub inertia_cg: P,
+    /// √(J/m).
+    pub radius_gyration_pivot: P,
+    /// √(Jcg/m).
+    pub radius_gyration_cg: P,
+    /// J/(m d).
+    pub equivalent_length: P,
+    /// c.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub viscous: Option<P>,
+    /// τc.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub coulomb: Option<P>,
+    /// cq.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub quadratic: Option<P>,
+}
+
+/// Gravity used.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Gravity {
+    /// g [m/s²].
+    pub value: f64,
+    /// Standard uncertainty [m/s²].
+    pub std: f64,
+    /// Where it came from, in words.
+    pub source: String,
+}
+
+/// One run.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Run {
+    /// Log file.
+    pub file: String,
+    /// Samples fitted.
+    pub samples: usize,
+    /// θeq.
+    pub equilibrium: P,
+    /// θ at the first sample.
+    pub initial_angle: P,
+    /// ω at the first sample.
+    pub initial_velocity: P,
+    /// RMS residual [rad].
+    pub rms_residual: f64,
+    /// Survey noise floor [rad].
+    pub noise_floor: f64,
+    /// Ljung–Box p-value of the residuals.
+    pub ljung_box_p: f64,
+}
+
+/// Fit statistics.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct FitStats {
+    /// Always true: a failed fit writes no JSON.
+    pub converged: bool,
+    /// Iterations of the final stage.
+    pub iterations: usize,
+    /// Iterations over all continuation stages.
+    pub iterations_total: usize,
+    /// Residual sum of squares [rad²].
+    pub rss: f64,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// Samples.
+    pub samples: usize,
+    /// Criterion that ended the fit.
+    pub convergence: String,
+    /// Condition number of the scaled normal equations.
+    pub condition_number: f64,
+    /// How the intervals were made.
+    pub interval_method: String,
+    /// Coverage factor used for the 95 % intervals.
+    pub t95: f64,
+}
+
+/// Correlation matrix with its labels.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Correlation {
+    /// Parameter names.
+    pub names: Vec<String>,
+    /// Rows of the matrix.
+    pub matrix: Vec<Vec<f64>>,
+}
+
+/// The whole fit document.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct FitDoc {
+    /// `swingfit.fit.v1`.
+    pub schema: &'static str,
+    /// Fitted terms.
+    pub damping: Vec<&'static str>,
+    /// Per unit inertia.
+    pub normalized: Normalized,
+    /// Physical, when mass and pivot-to-CG were given.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub physical: Option<Physical>,
+    /// Gravity, with `physical`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub gravity: Option<Gravity>,
+    /// Runs.
+    pub runs: Vec<Run>,
+    /// Statistics.
+    pub fit: FitStats,
+    /// Correlations.
+    pub correlation: Correlation,
+    /// Warnings in words.
+    pub flags: Vec<String>,
+}
+
+/// Build the wire document of a fit.
+pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
+    let term = |t: Term| fit.term(t).map(P::from);
+    FitDoc {
+        schema: FIT_SCHEMA,
+        damping: fit.damping.names(),
+        normalized: Normalized {
+            omega_n: P::from(&fit.omega_n),
+            viscous: term(Term::Viscous),
+            coulomb: term(Term::Coulomb),
+            quadratic: term(Term::Quadratic),
+        },
+        physical: physical.map(|p| Physical {
+            inertia_pivot: P::from(&p.inertia_pivot),
+            inertia_cg: P::from(&p.inertia_cg),
+            radius_gyration_pivot: P::from(&p.radius_gyration_pivot),
+            radius_gyration_cg: P::from(&p.radius_gyration_cg),
+            equivalent_length: P::from(&p.equivalent_length),
+            viscous: p.viscous.as_ref().map(P::from),
+            coulomb: p.coulomb.as_ref().map(P::from),
+            quadratic: p.quadratic.as_ref().map(P::from),
+        }),
+        gravity: physical.map(|p| Gravity {
+            value: p.gravity.value,
+            std: p.gravity.std,
+            source: p.gravity.source.clone(),
+        }),
+        runs: fit
+            .runs
+            .iter()
+            .map(|r| Run {
+                file: r.source.clone(),
+                samples: r.samples,
+                equilibrium: P::from(&r.equilibrium),
+                initial_angle: P::from(&r.initial_angle),
+                initial_velocity: P::from(&r.initial_velocity),
+                rms_residual: r.rms_residual,
+                noise_floor: r.noise_floor,
+                ljung_box_p: r.ljung_box_p,
+            })
+            .collect(),
+        fit: FitStats {
+            converged: true,
+            iterations: fit.iterations,
+            iterations_total: fit.iterations_total,
+            rss: fit.rss,
+            dof: fit.dof,
+            samples: fit.n_obs,
+            convergence: format!("{:?}", fit.convergence).to_lowercase(),
+            condition_number: fit.condition,
+            interval_method: fit.interval_method.to_string(),
+            t95: fit.t95,
+        },
+        correlation: Correlation {
+            names: fit.names.clone(),
+            matrix: (0..fit.correlation.nrows()).map(|i| fit.correlation.row(i).iter().copied().collect()).collect(),
+        },
+        flags: fit.flags.clone(),
+    }
+}
+
+/// Serialize any wire document as pretty JSON with a final newline.
+pub fn to_pretty<T: Serialize>(doc: &T) -> String {
+    // Serializing these plain structs cannot fail (no maps with non-string keys); NaN becomes null.
+    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    s.push('\n');
+    s
+}
