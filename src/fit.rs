@@ -12,6 +12,7 @@
 //! A fit that does not converge, ends with a damping term pinned at zero, or has singular normal
 //! equations is returned as a [`FitError`] with its diagnosis; no coefficients escape from it.
 
+pub mod compare;
 pub mod lm;
 pub mod problem;
 pub mod start;
@@ -107,6 +108,8 @@ pub struct FitOutcome {
     pub names: Vec<String>,
     /// Parameter vector at the minimum.
     pub x: DVector<f64>,
+    /// Start vector of the first continuation stage (from the survey, or from a warm start).
+    pub start: DVector<f64>,
     /// Covariance of the parameter vector (after any widening).
     pub covariance: DMatrix<f64>,
     /// Correlation matrix.
@@ -225,6 +228,7 @@ pub fn fit_surveyed(
         }
     };
     let mut x = layout.pack(&physics0, &releases0);
+    let start = x.clone();
     let period = 2.0 * std::f64::consts::PI / physics0.omega_n;
     let max_step = period / 250.0;
 
@@ -263,7 +267,7 @@ pub fn fit_surveyed(
         iterations_total += sol.iterations;
         x = sol.x.clone();
         if last {
-            return finish(logs, surveys, options, layout, &problem, sol, iterations_total);
+            return finish(logs, surveys, options, layout, &problem, sol, iterations_total, start);
         }
         horizon *= 3.0;
     }
@@ -281,6 +285,7 @@ fn seed_terms(p: &Physics, pairs: &[(&AngleLog, &Survey)], set: DampingSet) -> P
     out
 }
 
+#[allow(clippy::too_many_arguments)]
 fn finish(
     logs: &[AngleLog],
     surveys: &[Survey],
@@ -289,6 +294,7 @@ fn finish(
     problem: &TrajectoryProblem,
     sol: lm::LmSolution,
     iterations_total: usize,
+    start: DVector<f64>,
 ) -> Result<FitOutcome, FitError> {
     for &i in &sol.at_bound {
         if i >= 1 && i < layout.n_physics() {
@@ -363,6 +369,7 @@ fn finish(
         runs,
         names: layout.names(),
         x,
+        start,
         covariance,
         correlation,
         condition: unc.condition,

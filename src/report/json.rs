@@ -14,6 +14,7 @@
 //!   "fit": { "converged", "iterations", "iterations_total", "rss", "dof", "samples",
 //!            "convergence", "condition_number", "interval_method", "t95" },
 //!   "correlation": { "names": […], "matrix": [[…]] },
+//!   "vector": { "fitted": […], "start": […] },      parameter vectors in correlation.names order
 //!   "flags": ["…"] }
 //! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
 //! ```
@@ -170,6 +171,15 @@ pub struct Correlation {
     pub matrix: Vec<Vec<f64>>,
 }
 
+/// Fitted and start parameter vectors.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Vector {
+    /// At the minimum.
+    pub fitted: Vec<f64>,
+    /// Where the optimiser started (from the survey alone).
+    pub start: Vec<f64>,
+}
+
 /// The whole fit document.
 #[derive(Serialize, Debug, Clone, PartialEq)]
 pub struct FitDoc {
@@ -191,6 +201,8 @@ pub struct FitDoc {
     pub fit: FitStats,
     /// Correlations.
     pub correlation: Correlation,
+    /// Parameter vector at the minimum and the start vector, in `correlation.names` order.
+    pub vector: Vector,
     /// Warnings in words.
     pub flags: Vec<String>,
 }
@@ -252,6 +264,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
             names: fit.names.clone(),
             matrix: (0..fit.correlation.nrows()).map(|i| fit.correlation.row(i).iter().copied().collect()).collect(),
         },
+        vector: Vector { fitted: fit.x.iter().copied().collect(), start: fit.start.iter().copied().collect() },
         flags: fit.flags.clone(),
     }
 }
