@@ -8,6 +8,7 @@
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
 mod check;
+mod compare;
 pub mod fit;
 mod simulate;
 
@@ -56,6 +57,8 @@ enum Command {
     Simulate(simulate::SimulateArgs),
     /// Fit the logs of one article and report its coefficients with intervals.
     Fit(fit::FitArgs),
+    /// Fit every candidate damping set and say which one explains the decay.
+    Compare(compare::CompareArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -113,6 +116,7 @@ where
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
+        Command::Compare(a) => compare::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
