@@ -289,7 +289,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 ),
                 Some(n) => err(
                     None,
-                    format!("counts per revolution {n} is not usable: expected a positive number"),
+                    format!(
+                        "--counts-per-rev {n} is not usable: expected a positive number of edges per revolution"
+                    ),
                 ),
             });
         }
