@@ -205,7 +205,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         .split('\n')
         .enumerate()
         .map(|(i, l)| {
-            last_line = i as u64 + 1;
+            if !l.trim().is_empty() {
+                last_line = i as u64 + 1;
+            }
             (i as u64 + 1, l.trim_end_matches('\r'))
         })
         .filter(|(_, l)| !l.trim().is_empty() && !l.trim_start().starts_with('#'))
