@@ -22,7 +22,8 @@
 //!   then t = a_dir + (T/2)·k is fitted by least squares, with one round of outlier rejection.
 //!   This is exact for a linear damped oscillator and unaffected by gaps or irregular timestamps.
 //! - Resting tail: the final stretch whose angles all lie within a band of ±5 noise std (at
-//!   least one encoder step), lasting at least 20 samples and one period.
+//!   least one encoder step and 0.01 % of the angle range), lasting at least 20 samples and one
+//!   period (estimated from the spacing of the extremes; 10 % of the log when there are none).
 
 use super::AngleLog;
 
@@ -110,7 +111,8 @@ pub fn survey(log: &AngleLog) -> Survey {
     let spacing = median(extremes.windows(2).map(|w| w[1].t - w[0].t).collect());
     let period_guess = (spacing.is_finite() && spacing > 0.0).then_some(2.0 * spacing);
 
-    let band = (5.0 * noise_rad).max(step.unwrap_or(0.0));
+    // Motion under 0.01 % of the angle range counts as rest even on a noise-free log.
+    let band = (5.0 * noise_rad).max(step.unwrap_or(0.0)).max(1e-4 * span);
     let duration_s = t.last().copied().unwrap_or(0.0) - t.first().copied().unwrap_or(0.0);
     let rest_start = resting_tail(t, y, band, period_guess.unwrap_or(0.1 * duration_s));
 
