@@ -63,7 +63,7 @@ fn encoder_counts_in_ms_with_offset() {
     let mut s = String::from("# invented rig: encoder on the pivot shaft\nt_ms;counts\n");
     for i in 0..6000 {
         let t = 0.01 * i as f64;
-        s.push_str(&format!("{};{}\n", (t * 1e3).round(), (damped(t, 0.5236, 0.7) / q).round()));
+        s.push_str(&format!("{};{}\n", (t * 1e3).round(), (damped(t, 0.4712, 0.7) / q).round()));
     }
     let o = LoadOptions { counts_per_rev: Some(cpr), ..opts() };
     let log = load(&s, &o);
@@ -74,7 +74,7 @@ fn encoder_counts_in_ms_with_offset() {
     assert_eq!(sv.samples, 6000);
     let p = sv.period_s.unwrap_or(f64::NAN);
     assert!((p / TD - 1.0).abs() < 2e-4, "period {p} vs {TD}");
-    assert!((sv.equilibrium_rad - 0.5236).abs() < q, "equilibrium {}", sv.equilibrium_rad);
+    assert!((sv.equilibrium_rad - 0.4712).abs() < q, "equilibrium {}", sv.equilibrium_rad);
     assert!((sv.rate_hz - 100.0).abs() < 1e-6);
     assert!(sv.jitter < 1e-6);
     assert!(sv.gaps.is_empty());
