@@ -221,7 +221,8 @@ pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
 }
 
 fn assemble(logs: &[AngleLog], surveys: &[Survey], done: Vec<(DampingSet, Result<FitOutcome, FitError>)>) -> Comparison {
-    let n_obs: usize = logs.iter().map(|l| l.len()).sum();
+    // The independent observations are a property of the data, the same for every candidate.
+    let n_obs: usize = done.iter().find_map(|(_, r)| r.as_ref().ok().map(|f| f.n_independent)).unwrap_or(0);
     let mut cands: Vec<CandidateEvidence> = done
         .iter()
         .map(|(set, r)| match r {
