@@ -92,9 +92,11 @@ fn load(case: &str) -> Case {
 
 /// Max |Δθ| and its sample index.
 fn max_err(a: &[f64], b: &[f64]) -> (f64, usize) {
-    a.iter().zip(b).map(|(x, y)| (x - y).abs()).enumerate().fold((0.0, 0), |(m, im), (i, e)| {
-        if e > m { (e, i) } else { (m, im) }
-    })
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .enumerate()
+        .fold((0.0, 0), |(m, im), (i, e)| if e > m { (e, i) } else { (m, im) })
 }
 
 /// Check a trajectory against the reference: angles to [`TOL_RAD`], velocities to `vel_tol`,
@@ -121,8 +123,7 @@ fn check(case: &str, c: &Case, traj: &Trajectory, label: &str, vel_tol: f64) {
         (r, s) => panic!("{case} {label}: reference stick {r:?}, swingfit stick {s:?}"),
     }
     // Every reference reversal before the last sample is found, at the same time.
-    let ref_rev: Vec<f64> =
-        c.events.iter().filter(|e| e.0 == "reversal").map(|e| e.1).collect();
+    let ref_rev: Vec<f64> = c.events.iter().filter(|e| e.0 == "reversal").map(|e| e.1).collect();
     let rev: Vec<f64> = traj
         .events
         .iter()
