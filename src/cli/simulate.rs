@@ -85,8 +85,8 @@ pub struct SimulateArgs {
     /// Unit of the written angle column.
     #[arg(long, value_enum, default_value_t = AngleUnitArg::Rad)]
     pub angle_unit: AngleUnitArg,
-    /// Encoder counts per revolution (edges; quadrature: 4 × lines): written angles are rounded
-    /// to whole counts; also the scale of a counts log read by --times.
+    /// Encoder counts per revolution (edges; quadrature: 4 × lines): the count step of
+    /// --angle-unit counts; also the scale of a counts log read by --times.
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub counts_per_rev: Option<f64>,
     /// Standard deviation of Gaussian noise added to the angle, before quantisation [deg].

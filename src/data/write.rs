@@ -60,8 +60,8 @@ impl OutputUnit {
 pub struct LogFormat {
     /// Unit of the angle column.
     pub unit: OutputUnit,
-    /// Encoder counts per revolution (edges): when set, angles are rounded to the count step
-    /// 2π/N whatever the output unit; required for [`OutputUnit::Counts`].
+    /// Encoder counts per revolution (edges): the count step 2π/N that [`OutputUnit::Counts`]
+    /// rounds to; required for counts, checked but unused for radians and degrees.
     pub counts_per_rev: Option<f64>,
     /// Standard deviation of the Gaussian noise added before quantisation [rad]; 0 for none.
     pub noise_sd_rad: f64,
@@ -166,13 +166,9 @@ pub fn render(times: &[f64], angles: &[f64], format: &LogFormat) -> Result<Vec<u
         // Rust's `{}` for f64 writes the shortest decimal that parses back to the same value.
         let _ = match (format.unit, step) {
             (OutputUnit::Counts, Some(q)) => writeln!(out, "{t},{}", to_counts(a, q)),
-            (OutputUnit::Rad, Some(q)) => writeln!(out, "{t},{}", to_counts(a, q) * q),
-            (OutputUnit::Deg, Some(q)) => {
-                writeln!(out, "{t},{}", (to_counts(a, q) * q).to_degrees())
-            }
-            (OutputUnit::Deg, None) => writeln!(out, "{t},{}", a.to_degrees()),
-            // Counts without a step was refused above; radians unquantised.
-            (_, None) => writeln!(out, "{t},{a}"),
+            (OutputUnit::Deg, _) => writeln!(out, "{t},{}", a.to_degrees()),
+            // Radians; counts without a step were refused above.
+            (_, _) => writeln!(out, "{t},{a}"),
         };
     }
     Ok(out.into_bytes())

@@ -153,14 +153,11 @@ fn counts_are_whole_and_quantise_the_angle_to_one_step() {
         // Rounding: within half a step of the true angle (CHECKS.md section 9, Widrow & Kollár).
         assert!((c * q - r).abs() <= 0.5 * q + 1e-12, "count {c} for {r} rad");
     }
-    // Degrees quantised by --counts-per-rev are multiples of the 360/N step.
+    // For radian and degree output --counts-per-rev only scales a counts --times log: no rounding.
     let mut args = base.to_vec();
-    args.extend(["--angle-unit", "deg", "--counts-per-rev", "10000"]);
-    let (_, _, deg) = parse_log(&run_ok(&args));
-    for d in &deg {
-        let k = d / 0.036;
-        assert!((k - k.round()).abs() <= 1e-9, "{d} deg is not a multiple of 0.036");
-    }
+    args.extend(["--counts-per-rev", "10000"]);
+    let (_, _, plain) = parse_log(&run_ok(&args));
+    assert_eq!(plain, rad);
 }
 
 #[test]
@@ -399,5 +396,39 @@ fn sampling_must_be_given_one_way() {
         let out = swingfit().args(&args).output().expect("runs");
         assert_eq!(out.status.code(), Some(2), "{args:?}");
         assert!(out.stdout.is_empty());
+    }
+}
+
+#[test]
+fn true_parameters_replay_the_demo_logs_to_their_noise_level() {
+    // The demo logs were made by data/make_demo.py with the SciPy reference, Gaussian noise and
+    // (counts log) rounding to 0.036°. Replaying the true parameters over their timestamps must
+    // leave residuals of exactly that size: σ² = σn² + q²/12 (rounding error of variance q²/12,
+    // CHECKS.md section 9, Widrow & Kollár [memory]).
+    let cases = [
+        (
+            "ba7_release60_true.json",
+            "ba7_release60_counts.csv",
+            0.036,
+            (0.005f64.powi(2) + 0.036f64.powi(2) / 12.0).sqrt(),
+        ),
+        ("ba7_release15_true.json", "ba7_release15_deg.csv", 1.0, 0.01),
+    ];
+    for (params, log, scale_deg, expected_deg) in cases {
+        let p = s(&demo_data(params));
+        let l = s(&demo_data(log));
+        let out = run_ok(&["simulate", "--params", &p, "--times", &l, "--counts-per-rev", "10000"]);
+        let (_, t, sim_rad) = parse_log(&out);
+        let text = std::fs::read_to_string(demo_data(log)).expect("demo log");
+        let (_, _, measured) = parse_log(&text);
+        assert_eq!(t.len(), measured.len());
+        let resid: Vec<f64> =
+            measured.iter().zip(&sim_rad).map(|(m, s)| m * scale_deg - s.to_degrees()).collect();
+        let (mean, sd) = mean_std(&resid);
+        assert!(
+            (sd / expected_deg - 1.0).abs() <= 0.06,
+            "{log}: residual std {sd} deg vs {expected_deg}"
+        );
+        assert!(mean.abs() <= 0.1 * expected_deg, "{log}: residual mean {mean} deg");
     }
 }
