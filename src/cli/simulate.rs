@@ -217,9 +217,11 @@ pub fn run(args: &SimulateArgs) -> CmdResult {
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display()))),
         None => {
             let mut out = std::io::stdout().lock();
-            out.write_all(&bytes)
-                .and_then(|()| out.flush())
-                .map_err(|e| Failure::input(format!("standard output: {e}")))
+            match out.write_all(&bytes).and_then(|()| out.flush()) {
+                // A reader that stops early (`| head`) is not an error.
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+                r => r.map_err(|e| Failure::input(format!("standard output: {e}"))),
+            }
         }
     }
 }
