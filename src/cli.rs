@@ -8,6 +8,8 @@
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
 mod check;
+mod compare;
+pub mod fit;
 mod simulate;
 
 use std::ffi::OsString;
@@ -57,6 +59,10 @@ enum Command {
     Check(check::CheckArgs),
     /// Integrate the pendulum model and write a log.
     Simulate(simulate::SimulateArgs),
+    /// Fit the logs of one article and report its coefficients with intervals.
+    Fit(fit::FitArgs),
+    /// Fit every candidate damping set and say which one explains the decay.
+    Compare(compare::CompareArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -113,6 +119,8 @@ where
     let result = match cli.command {
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
+        Command::Fit(a) => fit::run(&a),
+        Command::Compare(a) => compare::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,4 +1,470 @@
 //! The estimator: fit free-decay logs of one article and report coefficients with intervals.
+//!
+//! Output-error least squares on the trajectory: the shared physics (ωn and the per-unit-inertia
+//! coefficient of each chosen damping term) and, per run, the equilibrium angle, the angle and
+//! the velocity at the first sample. Several logs of one article are fitted jointly.
+//!
+//! The fit proceeds by continuation: start values from the survey ([`start`]), a fit of the
+//! first few cycles, then of a window three times as long, and so on to the whole record, so a
+//! long log cannot slip a cycle into a false minimum. The last stage is the fit; its normal
+//! equations give the covariance ([`uncertainty`]).
+//!
+//! A fit that does not converge, ends with a damping term pinned at zero, or has singular normal
+//! equations is returned as a [`FitError`] with its diagnosis; no coefficients escape from it.
 
+pub mod compare;
 pub mod lm;
+pub mod problem;
+pub mod start;
 pub mod uncertainty;
+
+use nalgebra::{DMatrix, DVector};
+
+use crate::data::AngleLog;
+use crate::data::survey::{Survey, survey};
+use crate::model::{DampingSet, Physics, Release, Term};
+use crate::stats;
+use lm::{Convergence, LmError, LmSettings};
+use problem::{Layout, RunData, TrajectoryProblem};
+
+/// The default damping set: viscous plus Coulomb, the two mechanisms nearly every pivot shows
+/// (bearing or knife-edge losses and dry friction); `compare` tells when air drag matters.
+pub fn default_damping() -> DampingSet {
+    DampingSet::from_terms(&[Term::Viscous, Term::Coulomb])
+}
+
+/// How to fit.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FitOptions {
+    /// The damping terms to fit.
+    pub damping: DampingSet,
+    /// Moving-block bootstrap replicates for the intervals (`None`: analytic intervals).
+    pub bootstrap: Option<usize>,
+    /// Seed of the bootstrap.
+    pub seed: u64,
+    /// Most optimiser iterations per continuation stage.
+    pub max_iter: usize,
+}
+
+impl Default for FitOptions {
+    fn default() -> FitOptions {
+        FitOptions { damping: default_damping(), bootstrap: None, seed: 1, max_iter: 200 }
+    }
+}
+
+/// A fitted value with its uncertainty.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Estimate {
+    /// Best estimate.
+    pub value: f64,
+    /// Standard uncertainty (after any widening).
+    pub std: f64,
+    /// 95 % interval.
+    pub ci95: (f64, f64),
+    /// SI unit.
+    pub unit: &'static str,
+}
+
+/// The fitted release of one run and how well the model follows it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct RunFit {
+    /// The log's source.
+    pub source: String,
+    /// Samples fitted.
+    pub samples: usize,
+    /// Equilibrium angle [rad].
+    pub equilibrium: Estimate,
+    /// Angle at the first sample [rad].
+    pub initial_angle: Estimate,
+    /// Velocity at the first sample [rad/s].
+    pub initial_velocity: Estimate,
+    /// RMS of model − measured [rad].
+    pub rms_residual: f64,
+    /// Noise floor of the log from the survey [rad].
+    pub noise_floor: f64,
+    /// Ljung–Box p-value of this run's residuals.
+    pub ljung_box_p: f64,
+    /// Residuals model − measured [rad], one per sample.
+    pub residuals: Vec<f64>,
+    /// The model's angle at every sample [rad].
+    pub model_angle: Vec<f64>,
+    /// The model's angular velocity at every sample [rad/s].
+    pub model_velocity: Vec<f64>,
+}
+
+/// A converged, accepted fit.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FitOutcome {
+    /// The fitted damping set.
+    pub damping: DampingSet,
+    /// Best-estimate physics (terms not fitted are zero).
+    pub physics: Physics,
+    /// ωn [rad/s].
+    pub omega_n: Estimate,
+    /// Each fitted term's per-unit-inertia coefficient, in canonical order.
+    pub terms: Vec<(Term, Estimate)>,
+    /// Per run.
+    pub runs: Vec<RunFit>,
+    /// Parameter names in vector order (see [`problem::Layout::names`]).
+    pub names: Vec<String>,
+    /// Parameter vector at the minimum.
+    pub x: DVector<f64>,
+    /// Start vector of the first continuation stage (from the survey, or from a warm start).
+    pub start: DVector<f64>,
+    /// Covariance of the parameter vector (after any widening).
+    pub covariance: DMatrix<f64>,
+    /// Correlation matrix.
+    pub correlation: DMatrix<f64>,
+    /// Condition number of the scaled normal equations.
+    pub condition: f64,
+    /// Iterations in the final stage (and in all stages).
+    pub iterations: usize,
+    /// Iterations over all continuation stages.
+    pub iterations_total: usize,
+    /// Residual sum of squares [rad²].
+    pub rss: f64,
+    /// Observations.
+    pub n_obs: usize,
+    /// Degrees of freedom n − p.
+    pub dof: usize,
+    /// Which criterion ended the final stage.
+    pub convergence: Convergence,
+    /// How the intervals were obtained.
+    pub interval_method: uncertainty::IntervalMethod,
+    /// Coverage factor of the 95 % intervals (Student-t quantile t_{0.975, dof}).
+    pub t95: f64,
+    /// Warnings in words (unidentified terms, residuals above the noise floor).
+    pub flags: Vec<String>,
+}
+
+impl FitOutcome {
+    /// The estimate of term `t`, when fitted.
+    pub fn term(&self, t: Term) -> Option<&Estimate> {
+        self.terms.iter().find(|(u, _)| *u == t).map(|(_, e)| e)
+    }
+
+    /// Overall RMS residual over every run [rad].
+    pub fn rms_residual(&self) -> f64 {
+        (self.rss / self.n_obs as f64).sqrt()
+    }
+
+    /// Covariance of the shared physics block [ωn, fitted terms…].
+    pub fn physics_covariance(&self) -> DMatrix<f64> {
+        let k = 1 + self.damping.len();
+        self.covariance.view((0, 0), (k, k)).into_owned()
+    }
+}
+
+/// Why a fit was rejected.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum FitError {
+    /// No logs, or conflicting settings.
+    #[error("{0}")]
+    Setup(String),
+    /// No start values could be found.
+    #[error("{log}: no start values: {reason}")]
+    NoStart {
+        /// Log(s) at fault.
+        log: String,
+        /// Why.
+        reason: String,
+    },
+    /// The optimiser did not converge.
+    #[error("fit did not converge with damping {damping}: {reason}")]
+    NotConverged {
+        /// Damping set.
+        damping: DampingSet,
+        /// Detail.
+        reason: String,
+    },
+    /// A damping coefficient ended on its bound of zero.
+    #[error(
+        "fit rejected: the {term} coefficient is pinned at zero, so the data give no evidence of {term} damping; fit without it (see `swingfit compare`)"
+    )]
+    AtBound {
+        /// The term at its bound.
+        term: Term,
+    },
+    /// The normal equations are singular.
+    #[error("fit rejected: singular normal equations with damping {damping}: {detail}")]
+    Singular {
+        /// Damping set.
+        damping: DampingSet,
+        /// Detail.
+        detail: String,
+    },
+}
+
+/// Fit `logs` jointly with `options`.
+pub fn fit(logs: &[AngleLog], options: &FitOptions) -> Result<FitOutcome, FitError> {
+    let surveys: Vec<Survey> = logs.iter().map(survey).collect();
+    fit_surveyed(logs, &surveys, options, None)
+}
+
+/// Fit with the surveys already made and, optionally, a start (physics and releases) from an
+/// earlier fit (as `compare` does when it moves from one damping set to the next).
+pub fn fit_surveyed(
+    logs: &[AngleLog],
+    surveys: &[Survey],
+    options: &FitOptions,
+    warm: Option<(&Physics, &[Release])>,
+) -> Result<FitOutcome, FitError> {
+    if logs.is_empty() {
+        return Err(FitError::Setup("no logs to fit".into()));
+    }
+    if options.damping.is_empty() {
+        return Err(FitError::Setup("the damping set is empty".into()));
+    }
+    let layout = Layout { damping: options.damping, n_runs: logs.len() };
+    let pairs: Vec<(&AngleLog, &Survey)> = logs.iter().zip(surveys).collect();
+    let (physics0, releases0): (Physics, Vec<Release>) = match warm {
+        Some((p, r)) if r.len() == logs.len() => (seed_terms(p, &pairs, options.damping), r.to_vec()),
+        _ => {
+            let p = start::physics(&pairs, options.damping).map_err(|e| FitError::NoStart {
+                log: logs.iter().map(|l| l.source()).collect::<Vec<_>>().join(", "),
+                reason: e.0,
+            })?;
+            (p, pairs.iter().map(|(l, s)| start::release(l, s)).collect())
+        }
+    };
+    let mut x = layout.pack(&physics0, &releases0);
+    let start = x.clone();
+    let period = 2.0 * std::f64::consts::PI / physics0.omega_n;
+    let max_step = period / 250.0;
+
+    // Continuation: windows of 3, 9, 27, … periods from each run's start, then the whole record.
+    let longest = logs.iter().map(|l| l.times()[l.len() - 1] - l.times()[0]).fold(0.0, f64::max);
+    let mut horizon = 3.0 * period;
+    let mut iterations_total = 0;
+    let (lower, upper) = layout.bounds();
+    loop {
+        let last = horizon >= longest;
+        let runs: Vec<RunData> = logs
+            .iter()
+            .map(|l| {
+                let t0 = l.times()[0];
+                let n = if last { l.len() } else { l.times().partition_point(|t| t - t0 <= horizon).max(20) };
+                RunData { times: &l.times()[..n], angles: &l.angles()[..n], max_step }
+            })
+            .collect();
+        let problem = TrajectoryProblem { layout, runs };
+        let settings = LmSettings {
+            lower: lower.clone(),
+            upper: upper.clone(),
+            max_iter: options.max_iter,
+            ..LmSettings::unbounded(layout.n_params())
+        };
+        let sol = match lm::minimize(&problem, x.clone(), &settings) {
+            Ok(s) => s,
+            Err(LmError::Singular) => {
+                return Err(FitError::Singular {
+                    damping: options.damping,
+                    detail: "the parameters are not identifiable from these data".into(),
+                });
+            }
+            Err(e) => return Err(FitError::NotConverged { damping: options.damping, reason: e.to_string() }),
+        };
+        iterations_total += sol.iterations;
+        x = sol.x.clone();
+        if last {
+            return finish(logs, surveys, options, layout, &problem, sol, iterations_total, start);
+        }
+        horizon *= 3.0;
+    }
+}
+
+/// Physics from an earlier fit, with start values for terms it did not have.
+fn seed_terms(p: &Physics, pairs: &[(&AngleLog, &Survey)], set: DampingSet) -> Physics {
+    let peaks: Vec<&[crate::data::survey::Peak]> = pairs.iter().map(|(_, s)| s.peaks.as_slice()).collect();
+    let fresh = start::damping(&peaks, p.omega_n, set);
+    let mut out = Physics::undamped(p.omega_n);
+    for t in set.iter() {
+        let old = p.coef(t);
+        out.damping[t.index()] = if old > 0.0 { old } else { fresh[t.index()] };
+    }
+    out
+}
+
+#[allow(clippy::too_many_arguments)]
+fn finish(
+    logs: &[AngleLog],
+    surveys: &[Survey],
+    options: &FitOptions,
+    layout: Layout,
+    problem: &TrajectoryProblem,
+    sol: lm::LmSolution,
+    iterations_total: usize,
+    start: DVector<f64>,
+) -> Result<FitOutcome, FitError> {
+    for &i in &sol.at_bound {
+        if i >= 1 && i < layout.n_physics() {
+            let term = options.damping.iter().nth(i - 1).unwrap_or(Term::Viscous);
+            return Err(FitError::AtBound { term });
+        }
+    }
+    let n_obs = problem.runs.iter().map(|r| r.times.len()).sum::<usize>();
+    let p = layout.n_params();
+    if n_obs <= p + 1 {
+        return Err(FitError::Setup(format!("{n_obs} samples cannot determine {p} parameters")));
+    }
+    let x = sol.x.clone();
+    let residuals = problem
+        .residuals(&x)
+        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
+    let trajectories: Vec<_> = (0..logs.len())
+        .map(|k| problem.trajectory(&x, k))
+        .collect::<Result<_, _>>()
+        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
+    let singular = |e: uncertainty::UncertaintyError| FitError::Singular { damping: options.damping, detail: e.to_string() };
+    let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_obs).map_err(singular)?;
+    let all_residuals: Vec<f64> = residuals.concat();
+    let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05).map_err(singular)?;
+    let intervals = match options.bootstrap {
+        Some(b) if b >= 2 => bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &plain, cov.dof)?,
+        _ => plain,
+    };
+    // Covariance consistent with the reported standard uncertainties (widening rescales it).
+    let mut covariance = cov.cov.clone();
+    for i in 0..p {
+        for j in 0..p {
+            let si = intervals.params[i].std / cov.std[i].max(1e-300);
+            let sj = intervals.params[j].std / cov.std[j].max(1e-300);
+            covariance[(i, j)] *= si * sj;
+        }
+    }
+    let t95 = intervals.coverage_factor;
+    let est = |i: usize, unit: &'static str| {
+        let iv = &intervals.params[i];
+        Estimate { value: iv.value, std: iv.std, ci95: (iv.lo, iv.hi), unit }
+    };
+    let names = layout.names();
+    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    // Flags about the shared physics only: the release of each run is always well determined
+    // or harmless (an initial velocity of zero has an interval wider than its value by nature).
+    let mut flags: Vec<String> = uncertainty::identifiability_flags(&name_refs, &cov, &intervals)
+        .into_iter()
+        .filter(|f| f.param < layout.n_physics() && !matches!(f.kind, uncertainty::FlagKind::Correlated { other, .. } if other >= layout.n_physics()))
+        .map(|f| f.message)
+        .collect();
+    let ljung_box: Vec<f64> = residuals
+        .iter()
+        .map(|r| stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0).map(|l| l.p_value).unwrap_or(f64::NAN))
+        .collect();
+    let interval_method = intervals.method.clone();
+    let physics = layout.physics(&x);
+    let terms: Vec<(Term, Estimate)> =
+        options.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
+    let runs: Vec<RunFit> = (0..logs.len())
+        .map(|k| {
+            let o = layout.run_offset(k);
+            let r = &residuals[k];
+            let rms = (r.iter().map(|v| v * v).sum::<f64>() / r.len() as f64).sqrt();
+            let noise = surveys[k].noise_rad;
+            if rms > 3.0 * noise.max(1e-12) {
+                flags.push(format!(
+                    "{}: RMS residual {:.3e} rad is {:.1}x the noise floor {:.3e} rad: the model leaves structure unexplained (see `swingfit compare`)",
+                    logs[k].source(),
+                    rms,
+                    rms / noise.max(1e-300),
+                    noise
+                ));
+            }
+            RunFit {
+                source: logs[k].source().to_string(),
+                samples: r.len(),
+                equilibrium: est(o, "rad"),
+                initial_angle: est(o + 1, "rad"),
+                initial_velocity: est(o + 2, "rad/s"),
+                rms_residual: rms,
+                noise_floor: noise,
+                ljung_box_p: ljung_box[k],
+                residuals: r.clone(),
+                model_angle: trajectories[k].angle.clone(),
+                model_velocity: trajectories[k].velocity.clone(),
+            }
+        })
+        .collect();
+    let correlation = cov.corr.clone();
+    Ok(FitOutcome {
+        damping: options.damping,
+        physics,
+        omega_n: est(0, "rad/s"),
+        terms,
+        runs,
+        names,
+        x,
+        start,
+        covariance,
+        correlation,
+        condition: cov.condition,
+        iterations: sol.iterations,
+        iterations_total,
+        rss: sol.at_min.rss,
+        n_obs,
+        dof: n_obs - p,
+        convergence: sol.convergence,
+        interval_method,
+        t95,
+        flags,
+    })
+}
+
+/// Moving-block bootstrap: refit on model − resampled residual blocks, `b` times, each replicate
+/// with its own seed (so the result does not depend on thread count). The reported standard
+/// uncertainty is the larger of the bootstrap's and the analytic one: resampling can only widen.
+#[allow(clippy::too_many_arguments)]
+fn bootstrap(
+    logs: &[AngleLog],
+    surveys: &[Survey],
+    options: &FitOptions,
+    layout: Layout,
+    x: &DVector<f64>,
+    residuals: &[Vec<f64>],
+    trajectories: &[crate::integrate::Trajectory],
+    b: usize,
+    analytic: &uncertainty::IntervalSet,
+    dof: usize,
+) -> Result<uncertainty::IntervalSet, FitError> {
+    use rayon::prelude::*;
+    let physics = layout.physics(x);
+    let releases: Vec<Release> = (0..logs.len()).map(|k| layout.release(x, k)).collect();
+    let block = residuals.iter().map(|r| uncertainty::block_length_rule(r)).max().unwrap_or(1);
+    let replicates: Vec<Option<DVector<f64>>> = (0..b)
+        .into_par_iter()
+        .map(|i| {
+            let seed = options.seed.wrapping_mul(0x9E37_79B9_7F4A_7C15).wrapping_add(i as u64);
+            let synthetic: Option<Vec<AngleLog>> = logs
+                .iter()
+                .enumerate()
+                .map(|(k, l)| {
+                    let mut boot = uncertainty::BlockBootstrap::new(&residuals[k], block, seed.wrapping_add(7919 * k as u64)).ok()?;
+                    let e = boot.sample();
+                    let y: Vec<f64> = trajectories[k].angle.iter().zip(e.iter()).map(|(m, r)| m - r).collect();
+                    AngleLog::from_samples(l.source(), l.times().to_vec(), y).ok()
+                })
+                .collect();
+            let synthetic = synthetic?;
+            let opts = FitOptions { bootstrap: None, ..options.clone() };
+            fit_surveyed(&synthetic, surveys, &opts, Some((&physics, &releases))).ok().map(|f| f.x)
+        })
+        .collect();
+    let ok: Vec<DVector<f64>> = replicates.into_iter().flatten().collect();
+    if ok.len() < b.div_ceil(2).max(2) {
+        return Err(FitError::NotConverged {
+            damping: options.damping,
+            reason: format!("only {} of {} bootstrap refits converged", ok.len(), b),
+        });
+    }
+    let mut set = uncertainty::bootstrap_intervals(x, &ok, dof as f64, block, options.seed)
+        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e.to_string() })?;
+    let t = set.coverage_factor;
+    for (iv, a) in set.params.iter_mut().zip(&analytic.params) {
+        if iv.std < a.std {
+            iv.std = a.std;
+            iv.lo = iv.value - t * a.std;
+            iv.hi = iv.value + t * a.std;
+        }
+    }
+    Ok(set)
+}

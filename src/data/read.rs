@@ -42,7 +42,23 @@ impl Delim {
 }
 
 /// Header names taken for the time column when none is chosen.
-const TIME_NAMES: &[&str] = &["t", "time", "timestamp", "time_stamp", "tstamp", "elapsed"];
+/// A column named only by a unit (`ms`, `sec`) also counts, in that unit.
+const TIME_NAMES: &[&str] = &[
+    "t",
+    "time",
+    "timestamp",
+    "time_stamp",
+    "tstamp",
+    "elapsed",
+    "s",
+    "sec",
+    "secs",
+    "seconds",
+    "ms",
+    "msec",
+    "us",
+    "usec",
+];
 /// Header names taken for the angle column when none is chosen.
 const ANGLE_NAMES: &[&str] = &[
     "angle",
@@ -57,6 +73,10 @@ const ANGLE_NAMES: &[&str] = &[
     "counts",
     "count",
     "ticks",
+    "rad",
+    "radians",
+    "deg",
+    "degrees",
 ];
 /// Angle names that mean encoder counts when no unit is given.
 const COUNT_NAMES: &[&str] = &["enc", "encoder", "counts", "count", "ticks"];
@@ -205,7 +225,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         .split('\n')
         .enumerate()
         .map(|(i, l)| {
-            last_line = i as u64 + 1;
+            if !l.trim().is_empty() {
+                last_line = i as u64 + 1;
+            }
             (i as u64 + 1, l.trim_end_matches('\r'))
         })
         .filter(|(_, l)| !l.trim().is_empty() && !l.trim_start().starts_with('#'))
@@ -254,14 +276,13 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     }
     let (tbase, tunit_h) = split_header(&header[ti]);
     let (abase, aunit_h) = split_header(&header[ai]);
-    let _ = tbase;
 
     let time_unit = match opts.time_unit.as_deref() {
         Some(u) => TimeUnit::parse(u)
             .ok_or_else(|| err(None, format!("unknown time unit '{u}': expected s, ms or us")))?,
         None => match tunit_h {
             Some(HeaderUnit::Time(u)) => u,
-            _ => TimeUnit::Seconds,
+            _ => TimeUnit::parse(&tbase).unwrap_or(TimeUnit::Seconds),
         },
     };
     let angle_unit = match opts.angle_unit.as_deref() {
@@ -270,6 +291,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         })?,
         None => match aunit_h {
             Some(HeaderUnit::Angle(u)) => u,
+            _ if let Some(u) = AngleUnit::parse(&abase) => u,
             _ if COUNT_NAMES.contains(&abase.as_str()) || opts.counts_per_rev.is_some() => {
                 AngleUnit::Counts
             }
@@ -388,5 +410,21 @@ mod tests {
         assert_eq!(sniff("t|angle", &["0|1"]), None);
         assert_eq!(number("2,5", Delim::Char(';')), Some(2.5));
         assert_eq!(number("2,5", Delim::Char(',')), None);
+    }
+
+    #[test]
+    fn columns_named_by_their_unit() {
+        assert_eq!(
+            split_header("encoder_counts"),
+            ("encoder".into(), Some(HeaderUnit::Angle(AngleUnit::Counts)))
+        );
+        let mut text = String::from("ms,deg\n");
+        for i in 0..10 {
+            text.push_str(&format!("{},{}\n", 10 * i, i));
+        }
+        let t = read("u.csv", text.as_bytes(), &LoadOptions::default()).map_err(|e| e.to_string());
+        let t = t.unwrap_or_else(|e| panic!("{e}"));
+        assert!((t.times[3] - 0.03).abs() < 1e-15);
+        assert!((t.angles[3] - 3f64.to_radians()).abs() < 1e-15);
     }
 }

@@ -16,11 +16,14 @@
 //!   centre of the swing and not the rest angle. Fallback: the resting tail, then the mean.
 //! - Crossings of the equilibrium with a hysteresis band of 5 noise std (or one encoder step), the
 //!   time interpolated linearly inside the last sample interval, never inside a gap.
-//! - Period: each crossing gets an integer half-cycle number (its parity fixed by its direction),
+//! - Period: from crossings of each half cycle's own midline (the mean of its two bounding
+//!   extremes), which are unbiased under Coulomb as well as viscous decay (see
+//!   `midline_crossings`); the equilibrium crossings serve when there are too few. Each crossing gets an integer half-cycle number (its parity fixed by its direction),
 //!   then t = a_dir + (T/2)·k is fitted by least squares, with one round of outlier rejection.
 //!   This is exact for a linear damped oscillator and unaffected by gaps or irregular timestamps.
 //! - Resting tail: the final stretch whose angles all lie within a band of ±5 noise std (at
-//!   least one encoder step), lasting at least 20 samples and one period.
+//!   least one encoder step and 0.01 % of the angle range), lasting at least 20 samples and one
+//!   period (estimated from the spacing of the extremes; 10 % of the log when there are none).
 
 use super::AngleLog;
 
@@ -108,7 +111,8 @@ pub fn survey(log: &AngleLog) -> Survey {
     let spacing = median(extremes.windows(2).map(|w| w[1].t - w[0].t).collect());
     let period_guess = (spacing.is_finite() && spacing > 0.0).then_some(2.0 * spacing);
 
-    let band = (5.0 * noise_rad).max(step.unwrap_or(0.0));
+    // Motion under 0.01 % of the angle range counts as rest even on a noise-free log.
+    let band = (5.0 * noise_rad).max(step.unwrap_or(0.0)).max(1e-4 * span);
     let duration_s = t.last().copied().unwrap_or(0.0) - t.first().copied().unwrap_or(0.0);
     let rest_start = resting_tail(t, y, band, period_guess.unwrap_or(0.1 * duration_s));
 
@@ -124,7 +128,11 @@ pub fn survey(log: &AngleLog) -> Survey {
         .into_iter()
         .filter(|c| before_rest(c.t))
         .collect();
-    let period_s = period(&crossings, &gaps);
+    let local: Vec<Crossing> = midline_crossings(t, y, &extremes, spacing, &gap_after)
+        .into_iter()
+        .filter(|c| before_rest(c.t))
+        .collect();
+    let period_s = period(&local, &gaps).or_else(|| period(&crossings, &gaps));
     let peaks: Vec<Peak> = extremes
         .iter()
         .filter(|e| e.clean && before_rest(e.t))
@@ -230,6 +238,8 @@ fn inverse3(m: &[[f64; 3]; 3]) -> Option<[[f64; 3]; 3]> {
 /// A turning point of the raw angle.
 #[derive(Clone, Copy, Debug)]
 struct Extreme {
+    /// Sample index of the extreme (first sample of a flat top).
+    index: usize,
     t: f64,
     value: f64,
     is_max: bool,
@@ -303,7 +313,7 @@ fn refine(t: &[f64], y: &[f64], j: usize, is_max: bool, gap_after: &[bool]) -> E
     while j1 + 1 < n && y[j1 + 1].total_cmp(&y[j]).is_eq() {
         j1 += 1;
     }
-    let raw = Extreme { t: 0.5 * (t[j] + t[j1]), value: y[j], is_max, clean: false };
+    let raw = Extreme { index: j, t: 0.5 * (t[j] + t[j1]), value: y[j], is_max, clean: false };
     if j == 0 || j1 + 1 >= n || !no_gap(gap_after, j - 1, j1 + 1) {
         return raw;
     }
@@ -323,7 +333,7 @@ fn refine(t: &[f64], y: &[f64], j: usize, is_max: bool, gap_after: &[bool]) -> E
         return Extreme { clean: true, ..raw };
     }
     let yv = y0 + d01 * (xv - x0) + d2 * (xv - x0) * (xv - x1);
-    Extreme { t: xv, value: yv, is_max, clean: true }
+    Extreme { index: j, t: xv, value: yv, is_max, clean: true }
 }
 
 /// Median of (P₋ + 2P₀ + P₊)/4 over consecutive clean extremes (see module docs).
@@ -404,6 +414,47 @@ fn find_crossings(t: &[f64], y: &[f64], eq: f64, band: f64, gap_after: &[bool]) 
             out.push(Crossing { t: t[k] + f.clamp(0.0, 1.0) * (t[k + 1] - t[k]), up: s > 0 });
         }
         side = s;
+    }
+    out
+}
+
+/// Crossings of each half cycle's own midline, the mean of the two extremes that bound it.
+///
+/// Under Coulomb friction each half cycle is harmonic about its own centre ±Δ (CHECKS §4), so
+/// crossings of the global equilibrium drift later as the swing decays; crossings of the local
+/// midline fall exactly at the quarter points. Under viscous decay the local midline is offset by
+/// a fixed fraction of the amplitude, which shifts up and down crossings by constant times that
+/// the per-direction intercepts of [`period`] absorb. Half cycles that contain a gap are skipped.
+fn midline_crossings(
+    t: &[f64],
+    y: &[f64],
+    ext: &[Extreme],
+    spacing: f64,
+    gap_after: &[bool],
+) -> Vec<Crossing> {
+    let mut out = Vec::new();
+    for w in ext.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        if !a.clean
+            || !b.clean
+            || a.is_max == b.is_max
+            || b.t - a.t > 1.5 * spacing
+            || !no_gap(gap_after, a.index, b.index)
+        {
+            continue;
+        }
+        let m = 0.5 * (a.value + b.value);
+        let at = |k: usize| {
+            let (d0, d1) = (y[k] - m, y[k + 1] - m);
+            let f = if (d1 - d0).abs() > 0.0 { (-d0 / (d1 - d0)).clamp(0.0, 1.0) } else { 0.5 };
+            t[k] + f * (t[k + 1] - t[k])
+        };
+        // First and last sign change between the two extremes; noise can add a few near the middle.
+        let changes: Vec<usize> =
+            (a.index..b.index).filter(|&k| (y[k] - m < 0.0) != (y[k + 1] - m < 0.0)).collect();
+        if let (Some(&f), Some(&l)) = (changes.first(), changes.last()) {
+            out.push(Crossing { t: 0.5 * (at(f) + at(l)), up: !a.is_max });
+        }
     }
     out
 }

@@ -130,7 +130,7 @@ fn counts_need_counts_per_rev() {
 
 #[test]
 fn header_without_rows_is_refused() {
-    refused("no_data.csv", &[], Some(4), "no data rows after the header (line 2)");
+    refused("no_data.csv", &[], Some(3), "no data rows after the header (line 2)");
 }
 
 #[test]

@@ -1,0 +1,233 @@
+//! The trajectory least-squares problem: simulated minus measured angle at every sample of every
+//! run, with the physics shared between runs and the release state per run.
+//!
+//! Parameter vector layout ([`Layout`]): `[ωn, b for each fitted term in canonical order,
+//! then (θeq, θ0, ω0) for run 1, run 2, …]`. The Jacobian comes from the forward sensitivity
+//! equations ([`crate::integrate::simulate_with_sensitivities`]), accumulated straight into the
+//! normal equations so that no n × p matrix is stored.
+
+use nalgebra::{DMatrix, DVector};
+use rayon::prelude::*;
+
+use crate::fit::lm::{LeastSquares, Linearization};
+use crate::integrate::{self, Method, Trajectory};
+use crate::model::{DampingSet, Physics, RELEASE_PARAMS, Release, Term};
+
+/// Where each parameter sits in the vector the optimiser sees.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Layout {
+    /// The fitted damping terms.
+    pub damping: DampingSet,
+    /// Number of runs (logs) fitted jointly.
+    pub n_runs: usize,
+}
+
+impl Layout {
+    /// Number of shared physics parameters (ωn and one per term).
+    pub fn n_physics(&self) -> usize {
+        1 + self.damping.len()
+    }
+
+    /// Total number of parameters.
+    pub fn n_params(&self) -> usize {
+        self.n_physics() + RELEASE_PARAMS * self.n_runs
+    }
+
+    /// Index of the first release parameter of run `k`.
+    pub fn run_offset(&self, k: usize) -> usize {
+        self.n_physics() + RELEASE_PARAMS * k
+    }
+
+    /// Index of the coefficient of `t`, when fitted.
+    pub fn term_index(&self, t: Term) -> Option<usize> {
+        self.damping.iter().position(|u| u == t).map(|i| 1 + i)
+    }
+
+    /// The physics encoded in `x` (terms not fitted are zero).
+    pub fn physics(&self, x: &DVector<f64>) -> Physics {
+        let mut p = Physics::undamped(x[0]);
+        for (i, t) in self.damping.iter().enumerate() {
+            p.damping[t.index()] = x[1 + i];
+        }
+        p
+    }
+
+    /// The release of run `k` encoded in `x`.
+    pub fn release(&self, x: &DVector<f64>, k: usize) -> Release {
+        let o = self.run_offset(k);
+        Release { equilibrium: x[o], angle: x[o + 1], velocity: x[o + 2] }
+    }
+
+    /// Pack physics and releases into a parameter vector.
+    pub fn pack(&self, physics: &Physics, releases: &[Release]) -> DVector<f64> {
+        let mut x = DVector::zeros(self.n_params());
+        x[0] = physics.omega_n;
+        for (i, t) in self.damping.iter().enumerate() {
+            x[1 + i] = physics.coef(t);
+        }
+        for (k, r) in releases.iter().enumerate() {
+            let o = self.run_offset(k);
+            x[o] = r.equilibrium;
+            x[o + 1] = r.angle;
+            x[o + 2] = r.velocity;
+        }
+        x
+    }
+
+    /// Machine names of the parameters, e.g. `omega_n`, `viscous`, `run1.equilibrium`.
+    pub fn names(&self) -> Vec<String> {
+        let mut v = vec!["omega_n".to_string()];
+        v.extend(self.damping.iter().map(|t| t.name().to_string()));
+        for k in 0..self.n_runs {
+            for n in ["equilibrium", "initial_angle", "initial_velocity"] {
+                v.push(format!("run{}.{}", k + 1, n));
+            }
+        }
+        v
+    }
+
+    /// Lower and upper bounds: ωn > 0, damping ≥ 0, release free.
+    pub fn bounds(&self) -> (DVector<f64>, DVector<f64>) {
+        let n = self.n_params();
+        let mut lo = DVector::from_element(n, f64::NEG_INFINITY);
+        let hi = DVector::from_element(n, f64::INFINITY);
+        lo[0] = 1e-9;
+        for i in 1..self.n_physics() {
+            lo[i] = 0.0;
+        }
+        (lo, hi)
+    }
+}
+
+/// One run's samples (possibly a leading window of the log) and its integration step.
+#[derive(Clone, Copy, Debug)]
+pub struct RunData<'a> {
+    /// Sample times [s].
+    pub times: &'a [f64],
+    /// Measured angles [rad].
+    pub angles: &'a [f64],
+    /// Longest RK4 sub-step [s].
+    pub max_step: f64,
+}
+
+/// The least-squares problem over several runs.
+#[derive(Clone, Debug)]
+pub struct TrajectoryProblem<'a> {
+    /// Parameter layout.
+    pub layout: Layout,
+    /// The runs, in layout order.
+    pub runs: Vec<RunData<'a>>,
+}
+
+impl TrajectoryProblem<'_> {
+    /// Simulated trajectory of run `k` at parameters `x`.
+    pub fn trajectory(&self, x: &DVector<f64>, k: usize) -> Result<Trajectory, String> {
+        let run = &self.runs[k];
+        integrate::simulate(
+            &self.layout.physics(x),
+            &self.layout.release(x, k),
+            run.times,
+            Method::Rk4 { max_step: run.max_step },
+        )
+        .map_err(|e| e.to_string())
+    }
+
+    /// Residuals (model − measured) of every run at `x`.
+    pub fn residuals(&self, x: &DVector<f64>) -> Result<Vec<Vec<f64>>, String> {
+        (0..self.runs.len())
+            .into_par_iter()
+            .map(|k| {
+                let tr = self.trajectory(x, k)?;
+                Ok(tr.angle.iter().zip(self.runs[k].angles).map(|(m, y)| m - y).collect())
+            })
+            .collect()
+    }
+}
+
+impl LeastSquares for TrajectoryProblem<'_> {
+    fn n_params(&self) -> usize {
+        self.layout.n_params()
+    }
+
+    fn n_obs(&self) -> usize {
+        self.runs.iter().map(|r| r.times.len()).sum()
+    }
+
+    fn cost(&self, x: &DVector<f64>) -> Result<f64, String> {
+        let per_run: Result<Vec<f64>, String> = (0..self.runs.len())
+            .into_par_iter()
+            .map(|k| {
+                let tr = self.trajectory(x, k)?;
+                Ok(tr.angle.iter().zip(self.runs[k].angles).map(|(m, y)| (m - y) * (m - y)).sum())
+            })
+            .collect();
+        let rss: f64 = per_run?.iter().sum();
+        if rss.is_finite() { Ok(rss) } else { Err("residuals are not finite".into()) }
+    }
+
+    fn linearize(&self, x: &DVector<f64>) -> Result<Linearization, String> {
+        let layout = self.layout;
+        let physics = layout.physics(x);
+        let np_phys = layout.n_physics();
+        let p_loc = np_phys + RELEASE_PARAMS;
+        let parts: Result<Vec<(f64, DMatrix<f64>, DVector<f64>)>, String> = (0..self.runs.len())
+            .into_par_iter()
+            .map(|k| {
+                let run = &self.runs[k];
+                let (tr, sens) = integrate::simulate_with_sensitivities(
+                    &physics,
+                    &layout.release(x, k),
+                    run.times,
+                    layout.damping,
+                    run.max_step,
+                )
+                .map_err(|e| e.to_string())?;
+                debug_assert_eq!(sens.n_params, p_loc);
+                let mut jtj = DMatrix::<f64>::zeros(p_loc, p_loc);
+                let mut jtr = DVector::<f64>::zeros(p_loc);
+                let mut rss = 0.0;
+                // Accumulate the upper triangle in a flat buffer: this loop runs once per sample.
+                let mut acc = vec![0.0; p_loc * p_loc];
+                for (i, (m, y)) in tr.angle.iter().zip(run.angles).enumerate() {
+                    let r = m - y;
+                    rss += r * r;
+                    let g = &sens.d_angle[i * p_loc..(i + 1) * p_loc];
+                    for a in 0..p_loc {
+                        jtr[a] += g[a] * r;
+                        let ga = g[a];
+                        let row = &mut acc[a * p_loc..(a + 1) * p_loc];
+                        for b in a..p_loc {
+                            row[b] += ga * g[b];
+                        }
+                    }
+                }
+                for a in 0..p_loc {
+                    for b in a..p_loc {
+                        jtj[(a, b)] = acc[a * p_loc + b];
+                        jtj[(b, a)] = acc[a * p_loc + b];
+                    }
+                }
+                Ok((rss, jtj, jtr))
+            })
+            .collect();
+        let n = layout.n_params();
+        let mut jtj = DMatrix::<f64>::zeros(n, n);
+        let mut jtr = DVector::zeros(n);
+        let mut rss = 0.0;
+        for (k, (r, a, b)) in parts?.into_iter().enumerate() {
+            rss += r;
+            // Local index → global index: physics first, then this run's release block.
+            let map = |i: usize| if i < np_phys { i } else { layout.run_offset(k) + (i - np_phys) };
+            for i in 0..p_loc {
+                jtr[map(i)] += b[i];
+                for j in 0..p_loc {
+                    jtj[(map(i), map(j))] += a[(i, j)];
+                }
+            }
+        }
+        if !rss.is_finite() || jtj.iter().any(|v: &f64| !v.is_finite()) {
+            return Err("model or sensitivities are not finite at these parameters".into());
+        }
+        Ok(Linearization { rss, jtj, jtr })
+    }
+}

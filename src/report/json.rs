@@ -1,0 +1,396 @@
+//! JSON wire formats, serialize-only; the core types are not `Serialize`.
+//!
+//! ## Wire format `swingfit.fit.v1`
+//! ```text
+//! { "schema": "swingfit.fit.v1",
+//!   "damping": ["viscous", "coulomb"],            fitted terms, canonical order
+//!   "normalized": { "omega_n": P, "viscous": P, "coulomb": P, "quadratic": P },   per unit inertia
+//!   "physical":   { "inertia_pivot": P, "inertia_cg": P, "radius_gyration_pivot": P,
+//!                   "radius_gyration_cg": P, "equivalent_length": P,
+//!                   "viscous": P, "coulomb": P, "quadratic": P },  only with mass and pivot-to-CG
+//!   "gravity": { "value": g, "std": u, "source": "…" },           only with `physical`
+//!   "runs": [ { "file", "samples", "equilibrium": P, "initial_angle": P, "initial_velocity": P,
+//!               "rms_residual", "noise_floor", "ljung_box_p" } ],
+//!   "fit": { "converged", "iterations", "iterations_total", "rss", "dof", "samples",
+//!            "convergence", "condition_number", "interval_method", "t95" },
+//!   "correlation": { "names": […], "matrix": [[…]] },
+//!   "vector": { "fitted": […], "start": […] },      parameter vectors in correlation.names order
+//!   "flags": ["…"] }
+//! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
+//! ```
+//! Units: omega_n rad/s; normalized viscous 1/s, coulomb rad/s², quadratic 1/rad; physical inertia
+//! kg·m², viscous N·m·s/rad, coulomb N·m, quadratic N·m·s²/rad²; angles rad; velocity rad/s; rss rad².
+//! Terms not fitted are absent. `swingfit simulate --params` reads this file back.
+
+use serde::Serialize;
+
+use crate::fit::{Estimate, FitOutcome};
+use crate::model::Term;
+use crate::physical::PhysicalResult;
+
+/// Schema tag of the fit JSON.
+pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
+
+/// A value with its uncertainty, on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct P {
+    /// Best estimate.
+    pub value: f64,
+    /// Standard uncertainty.
+    pub std: f64,
+    /// 95 % interval (for physical values: value ± expanded uncertainty, k = 2).
+    pub ci95: [f64; 2],
+    /// SI unit.
+    pub unit: String,
+    /// Expanded uncertainty U = k·u with k = 2 (physical values only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expanded_k2: Option<f64>,
+}
+
+impl From<&Estimate> for P {
+    fn from(e: &Estimate) -> P {
+        P { value: e.value, std: e.std, ci95: [e.ci95.0, e.ci95.1], unit: e.unit.to_string(), expanded_k2: None }
+    }
+}
+
+impl From<&crate::physical::Quantity> for P {
+    fn from(q: &crate::physical::Quantity) -> P {
+        P {
+            value: q.value,
+            std: q.std,
+            ci95: [q.value - q.expanded, q.value + q.expanded],
+            unit: q.unit.to_string(),
+            expanded_k2: Some(q.expanded),
+        }
+    }
+}
+
+/// Per-unit-inertia block.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Normalized {
+    /// ωn.
+    pub omega_n: P,
+    /// b1.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub viscous: Option<P>,
+    /// b0.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub coulomb: Option<P>,
+    /// b2.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub quadratic: Option<P>,
+}
+
+/// Physical block.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Physical {
+    /// J about the pivot.
+    pub inertia_pivot: P,
+    /// J about the centre of gravity.
+    pub inertia_cg: P,
+    /// √(J/m).
+    pub radius_gyration_pivot: P,
+    /// √(Jcg/m).
+    pub radius_gyration_cg: P,
+    /// J/(m d).
+    pub equivalent_length: P,
+    /// c.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub viscous: Option<P>,
+    /// τc.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub coulomb: Option<P>,
+    /// cq.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub quadratic: Option<P>,
+}
+
+/// Gravity used.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Gravity {
+    /// g [m/s²].
+    pub value: f64,
+    /// Standard uncertainty [m/s²].
+    pub std: f64,
+    /// Where it came from, in words.
+    pub source: String,
+}
+
+/// One run.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Run {
+    /// Log file.
+    pub file: String,
+    /// Samples fitted.
+    pub samples: usize,
+    /// θeq.
+    pub equilibrium: P,
+    /// θ at the first sample.
+    pub initial_angle: P,
+    /// ω at the first sample.
+    pub initial_velocity: P,
+    /// RMS residual [rad].
+    pub rms_residual: f64,
+    /// Survey noise floor [rad].
+    pub noise_floor: f64,
+    /// Ljung–Box p-value of the residuals.
+    pub ljung_box_p: f64,
+}
+
+/// Fit statistics.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct FitStats {
+    /// Always true: a failed fit writes no JSON.
+    pub converged: bool,
+    /// Iterations of the final stage.
+    pub iterations: usize,
+    /// Iterations over all continuation stages.
+    pub iterations_total: usize,
+    /// Residual sum of squares [rad²].
+    pub rss: f64,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// Samples.
+    pub samples: usize,
+    /// Criterion that ended the fit.
+    pub convergence: String,
+    /// Condition number of the scaled normal equations.
+    pub condition_number: f64,
+    /// How the intervals were made.
+    pub interval_method: String,
+    /// Coverage factor used for the 95 % intervals.
+    pub t95: f64,
+}
+
+/// Correlation matrix with its labels.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Correlation {
+    /// Parameter names.
+    pub names: Vec<String>,
+    /// Rows of the matrix.
+    pub matrix: Vec<Vec<f64>>,
+}
+
+/// Fitted and start parameter vectors.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct Vector {
+    /// At the minimum.
+    pub fitted: Vec<f64>,
+    /// Where the optimiser started (from the survey alone).
+    pub start: Vec<f64>,
+}
+
+/// The whole fit document.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct FitDoc {
+    /// `swingfit.fit.v1`.
+    pub schema: &'static str,
+    /// Fitted terms.
+    pub damping: Vec<&'static str>,
+    /// Per unit inertia.
+    pub normalized: Normalized,
+    /// Physical, when mass and pivot-to-CG were given.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub physical: Option<Physical>,
+    /// Gravity, with `physical`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub gravity: Option<Gravity>,
+    /// Runs.
+    pub runs: Vec<Run>,
+    /// Statistics.
+    pub fit: FitStats,
+    /// Correlations.
+    pub correlation: Correlation,
+    /// Parameter vector at the minimum and the start vector, in `correlation.names` order.
+    pub vector: Vector,
+    /// Warnings in words.
+    pub flags: Vec<String>,
+}
+
+/// Build the wire document of a fit.
+pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
+    let term = |t: Term| fit.term(t).map(P::from);
+    FitDoc {
+        schema: FIT_SCHEMA,
+        damping: fit.damping.names(),
+        normalized: Normalized {
+            omega_n: P::from(&fit.omega_n),
+            viscous: term(Term::Viscous),
+            coulomb: term(Term::Coulomb),
+            quadratic: term(Term::Quadratic),
+        },
+        physical: physical.map(|p| Physical {
+            inertia_pivot: P::from(&p.inertia_pivot),
+            inertia_cg: P::from(&p.inertia_cg),
+            radius_gyration_pivot: P::from(&p.radius_gyration_pivot),
+            radius_gyration_cg: P::from(&p.radius_gyration_cg),
+            equivalent_length: P::from(&p.equivalent_length),
+            viscous: p.viscous.as_ref().map(P::from),
+            coulomb: p.coulomb.as_ref().map(P::from),
+            quadratic: p.quadratic.as_ref().map(P::from),
+        }),
+        gravity: physical.map(|p| Gravity {
+            value: p.gravity.value,
+            std: p.gravity.std,
+            source: p.gravity.source.clone(),
+        }),
+        runs: fit
+            .runs
+            .iter()
+            .map(|r| Run {
+                file: r.source.clone(),
+                samples: r.samples,
+                equilibrium: P::from(&r.equilibrium),
+                initial_angle: P::from(&r.initial_angle),
+                initial_velocity: P::from(&r.initial_velocity),
+                rms_residual: r.rms_residual,
+                noise_floor: r.noise_floor,
+                ljung_box_p: r.ljung_box_p,
+            })
+            .collect(),
+        fit: FitStats {
+            converged: true,
+            iterations: fit.iterations,
+            iterations_total: fit.iterations_total,
+            rss: fit.rss,
+            dof: fit.dof,
+            samples: fit.n_obs,
+            convergence: format!("{:?}", fit.convergence).to_lowercase(),
+            condition_number: fit.condition,
+            interval_method: crate::report::table::interval_method_text(&fit.interval_method),
+            t95: fit.t95,
+        },
+        correlation: Correlation {
+            names: fit.names.clone(),
+            matrix: (0..fit.correlation.nrows()).map(|i| fit.correlation.row(i).iter().copied().collect()).collect(),
+        },
+        vector: Vector { fitted: fit.x.iter().copied().collect(), start: fit.start.iter().copied().collect() },
+        flags: fit.flags.clone(),
+    }
+}
+
+/// Serialize any wire document as pretty JSON with a final newline.
+pub fn to_pretty<T: Serialize>(doc: &T) -> String {
+    // Serializing these plain structs cannot fail (no maps with non-string keys); NaN becomes null.
+    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    s.push('\n');
+    s
+}
+
+/// Schema tag of the comparison JSON.
+pub const COMPARE_SCHEMA: &str = "swingfit.compare.v1";
+
+/// One candidate on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct CandidateDoc {
+    /// Damping set.
+    pub damping: Vec<&'static str>,
+    /// `ok` or `failed`.
+    pub status: &'static str,
+    /// Why the fit failed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
+    /// RSS [rad²].
+    pub rss: f64,
+    /// Gaussian AIC.
+    pub aic: f64,
+    /// Gaussian BIC.
+    pub bic: f64,
+    /// Smallest Ljung–Box p over runs.
+    pub ljung_box_p: f64,
+    /// RMS residual [rad].
+    pub rms_residual: f64,
+    /// Largest RMS residual / noise floor over runs.
+    pub noise_ratio: f64,
+    /// Every term's 95 % interval excludes zero.
+    pub all_significant: bool,
+    /// Explains the decay to the noise floor.
+    pub explains_decay: bool,
+    /// Per-unit-inertia estimates.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub normalized: Option<Normalized>,
+    /// F-tests against nested candidates with one term fewer.
+    pub added_terms: Vec<AddedTermDoc>,
+    /// Model half-cycle peaks per run: [t s, deflection rad].
+    pub model_peaks: Vec<Vec<[f64; 2]>>,
+}
+
+/// One nested F-test.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct AddedTermDoc {
+    /// The smaller set.
+    pub from: Vec<&'static str>,
+    /// The term added.
+    pub term: &'static str,
+    /// F statistic.
+    pub f: f64,
+    /// Upper-tail p-value.
+    pub p_value: f64,
+}
+
+/// The comparison document.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct CompareDoc {
+    /// `swingfit.compare.v1`.
+    pub schema: &'static str,
+    /// The chosen set; null when no candidate explains the decay.
+    pub best: Option<Vec<&'static str>>,
+    /// Whether a candidate explains the decay.
+    pub explained: bool,
+    /// Sets indistinguishable from the best.
+    pub indistinguishable: Vec<Vec<&'static str>>,
+    /// Ranked candidates.
+    pub candidates: Vec<CandidateDoc>,
+    /// Verdict in words.
+    pub verdict: String,
+    /// Envelope laws on the measured peaks with RMS misfit [rad], best first.
+    pub envelope_laws: Vec<(&'static str, f64)>,
+    /// Measured half-cycle peaks per run: [t s, deflection rad].
+    pub measured_peaks: Vec<Vec<[f64; 2]>>,
+    /// Measured period per cycle per run: [amplitude rad, period s].
+    pub period_points: Vec<Vec<[f64; 2]>>,
+    /// Model period against amplitude: [amplitude rad, period s].
+    pub period_curve: Vec<[f64; 2]>,
+}
+
+/// Build the comparison document.
+pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
+    let peaks = |v: &Vec<Vec<crate::data::survey::Peak>>| -> Vec<Vec<[f64; 2]>> {
+        v.iter().map(|r| r.iter().map(|p| [p.t, p.deflection]).collect()).collect()
+    };
+    CompareDoc {
+        schema: COMPARE_SCHEMA,
+        best: c.best.map(|b| b.names()),
+        explained: c.explained,
+        indistinguishable: c.ties.iter().map(|t| t.names()).collect(),
+        candidates: c
+            .candidates
+            .iter()
+            .map(|e| CandidateDoc {
+                damping: e.damping.names(),
+                status: if e.fit.is_ok() { "ok" } else { "failed" },
+                reason: e.fit.as_ref().err().map(|x| x.to_string()),
+                rss: e.rss,
+                aic: e.aic,
+                bic: e.bic,
+                ljung_box_p: e.ljung_box_p,
+                rms_residual: e.rms_residual,
+                noise_ratio: e.noise_ratio,
+                all_significant: e.all_significant,
+                explains_decay: e.explains_decay,
+                normalized: e.outcome().map(|f| fit_doc(f, None).normalized),
+                added_terms: e
+                    .added_terms
+                    .iter()
+                    .map(|a| AddedTermDoc { from: a.from.names(), term: a.term.name(), f: a.f, p_value: a.p_value })
+                    .collect(),
+                model_peaks: peaks(&e.model_peaks),
+            })
+            .collect(),
+        verdict: c.verdict.clone(),
+        envelope_laws: c.envelope.laws.iter().map(|(l, r)| (l.name(), *r)).collect(),
+        measured_peaks: peaks(&c.measured_peaks),
+        period_points: c.period_points.iter().map(|r| r.iter().map(|p| [p.amplitude, p.period]).collect()).collect(),
+        period_curve: c.period_curve.iter().map(|(a, t)| [*a, *t]).collect(),
+    }
+}

@@ -1,0 +1,175 @@
+//! Plain-text tables for the terminal and for lab notebooks.
+//!
+//! Every number carries its unit and, where it is an estimate, its ± 95 % half-width.
+
+use std::fmt::Write as _;
+
+use crate::fit::{Estimate, FitOutcome};
+use crate::physical::{PhysicalResult, Quantity};
+
+/// Format `v` with `sig` significant digits, switching to exponent form for very small or large.
+pub fn num(v: f64, sig: usize) -> String {
+    if !v.is_finite() {
+        return format!("{v}");
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let mag = v.abs().log10().floor() as i32;
+    if !(-3..6).contains(&mag) {
+        return format!("{:.*e}", sig.saturating_sub(1), v);
+    }
+    let decimals = (sig as i32 - 1 - mag).max(0) as usize;
+    format!("{v:.decimals$}")
+}
+
+/// Digits to show so that the half-width keeps two significant figures.
+fn sig_for(value: f64, half: f64) -> usize {
+    if !(half.is_finite() && half > 0.0 && value != 0.0) {
+        return 6;
+    }
+    let d = value.abs().log10().floor() - half.log10().floor() + 2.0;
+    d.clamp(2.0, 12.0) as usize
+}
+
+fn row(out: &mut String, label: &str, e: &Estimate) {
+    let half = 0.5 * (e.ci95.1 - e.ci95.0);
+    let sig = sig_for(e.value, half);
+    let _ = writeln!(out, "  {:<34} {:>16}  ± {:<10} {}", label, num(e.value, sig), num(half, 2), e.unit);
+}
+
+fn qrow(out: &mut String, label: &str, q: &Quantity) {
+    let sig = sig_for(q.value, q.expanded);
+    let _ = writeln!(
+        out,
+        "  {:<34} {:>16}  ± {:<10} {:<14} (u = {})",
+        label,
+        num(q.value, sig),
+        num(q.expanded, 2),
+        q.unit,
+        num(q.std, 2)
+    );
+}
+
+/// The fit table printed by `swingfit fit`.
+pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "Damping model: {}   ({} run{}, {} samples)", fit.damping, fit.runs.len(), if fit.runs.len() == 1 { "" } else { "s" }, fit.n_obs);
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Per unit inertia (value ± 95 % interval half-width)");
+    row(&mut o, "natural frequency omega_n", &fit.omega_n);
+    for (t, e) in &fit.terms {
+        row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
+    }
+    let period = 2.0 * std::f64::consts::PI / fit.omega_n.value;
+    let _ = writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
+    if let Some(p) = physical {
+        let _ = writeln!(o);
+        let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
+        qrow(&mut o, "moment of inertia about pivot J", &p.inertia_pivot);
+        qrow(&mut o, "moment of inertia about CG J_cg", &p.inertia_cg);
+        qrow(&mut o, "radius of gyration about pivot", &p.radius_gyration_pivot);
+        qrow(&mut o, "radius of gyration about CG", &p.radius_gyration_cg);
+        qrow(&mut o, "equivalent pendulum length", &p.equivalent_length);
+        if let Some(q) = &p.viscous {
+            qrow(&mut o, "viscous c", q);
+        }
+        if let Some(q) = &p.coulomb {
+            qrow(&mut o, "Coulomb friction torque tau_c", q);
+        }
+        if let Some(q) = &p.quadratic {
+            qrow(&mut o, "quadratic c_q", q);
+        }
+        let _ = writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Runs");
+    let _ = writeln!(
+        o,
+        "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
+        "file", "samples", "equilib. deg", "release deg", "w0 deg/s", "RMS rad", "noise rad", "LB p"
+    );
+    for r in &fit.runs {
+        let name = std::path::Path::new(&r.source).file_name().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| r.source.clone());
+        let _ = writeln!(
+            o,
+            "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
+            name,
+            r.samples,
+            num(r.equilibrium.value.to_degrees(), 6),
+            num(r.initial_angle.value.to_degrees(), 6),
+            num(r.initial_velocity.value.to_degrees(), 5),
+            num(r.rms_residual, 3),
+            num(r.noise_floor, 3),
+            num(r.ljung_box_p, 2)
+        );
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(
+        o,
+        "Fit: converged ({} criterion) after {} iterations ({} over all continuation stages); RSS {} rad^2, dof {}",
+        format!("{:?}", fit.convergence).to_lowercase(),
+        fit.iterations,
+        fit.iterations_total,
+        num(fit.rss, 4),
+        fit.dof
+    );
+    let _ = writeln!(o, "     RMS residual {} rad; condition number {}", num(fit.rms_residual(), 3), num(fit.condition, 3));
+    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", interval_method_text(&fit.interval_method), num(fit.t95, 4));
+    for f in &fit.flags {
+        let _ = writeln!(o, "Note: {f}");
+    }
+    o
+}
+
+/// The comparison table printed by `swingfit compare`.
+pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "Candidates (ranked; BIC = n ln(RSS/n) + p ln n, lower is better)");
+    let _ = writeln!(
+        o,
+        "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+        "damping", "status", "RMS rad", "AIC", "BIC", "x noise", "LB p", "sig.", "explains"
+    );
+    for e in &c.candidates {
+        if let Err(err) = &e.fit {
+            let _ = writeln!(o, "  {:<28} {:>7}  {}", e.damping.to_string(), "failed", err);
+            continue;
+        }
+        let _ = writeln!(
+            o,
+            "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+            e.damping.to_string(),
+            "ok",
+            num(e.rms_residual, 3),
+            format!("{:.1}", e.aic),
+            format!("{:.1}", e.bic),
+            format!("{:.2}", e.noise_ratio),
+            num(e.ljung_box_p, 2),
+            if e.all_significant { "yes" } else { "no" },
+            if e.explains_decay { "yes" } else { "no" }
+        );
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Envelope laws on the measured half-cycle peaks (RMS misfit in amplitude)");
+    for (law, rms) in &c.envelope.laws {
+        let _ = writeln!(o, "  {:<12} {} rad", law.name(), num(*rms, 3));
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Verdict: {}", c.verdict);
+    o
+}
+
+/// The interval method in words.
+pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> String {
+    use crate::fit::uncertainty::IntervalMethod as M;
+    match m {
+        M::Plain => "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into(),
+        M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
+            "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
+        ),
+        M::Bootstrap { replicates, block_length, seed } => format!(
+            "moving-block bootstrap, {replicates} refits, blocks of {block_length} samples, seed {seed} (never narrower than the analytic interval)"
+        ),
+    }
+}
