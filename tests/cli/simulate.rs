@@ -429,3 +429,21 @@ fn true_parameters_replay_the_demo_logs_to_their_noise_level() {
         assert!(mean.abs() <= 0.1 * expected_deg, "{log}: residual mean {mean} deg");
     }
 }
+
+#[test]
+fn a_fit_result_replays_over_its_own_log() {
+    // fit --json → simulate --params: the replay of the fitted model leaves residuals at the
+    // demo log's noise level (0.01°, data/README.md), so the fit JSON is read as intended.
+    let dir = tempfile::tempdir().expect("temp dir");
+    let fit = s(&dir.path().join("fit.json"));
+    let log = s(&demo_data("ba7_release15_deg.csv"));
+    run_ok(&["fit", &log, "--damping", "viscous,coulomb,quadratic", "--json", &fit]);
+    let out = run_ok(&["simulate", "--params", &fit, "--times", &log, "--angle-unit", "deg"]);
+    let (header, _, replay) = parse_log(&out);
+    assert_eq!(header, "time_s,angle_deg");
+    let text = std::fs::read_to_string(demo_data("ba7_release15_deg.csv")).expect("demo log");
+    let (_, _, measured) = parse_log(&text);
+    let resid: Vec<f64> = measured.iter().zip(&replay).map(|(m, r)| m - r).collect();
+    let (_, sd) = mean_std(&resid);
+    assert!((sd / 0.01 - 1.0).abs() <= 0.06, "replay residual std {sd} deg");
+}
