@@ -11,6 +11,8 @@
 //!   quantisation step/√12 for counts (Widrow & Kollár, CHECKS §9 \[memory\]).
 //! - Extremes: turning points with a hysteresis of 10 noise std (or 2 encoder steps), each refined
 //!   by the parabola through the sample (or the middle of a flat top) and its two neighbours.
+//!   A log that starts still (article held, then let go) gets its first extreme at the release,
+//!   with the median angle of the still stretch before it.
 //! - Equilibrium: median over consecutive extremes of (P₋ + 2P₀ + P₊)/4, which cancels a linear
 //!   (Coulomb) decay exactly and a geometric (viscous) decay to second order, so the estimate is the
 //!   centre of the swing and not the rest angle. Fallback: the resting tail, then the mean.
@@ -268,14 +270,14 @@ fn turning_points(t: &[f64], y: &[f64], h: f64, gap_after: &[bool]) -> Vec<Extre
                     i_lo = i;
                 }
                 if y[i] < y[i_hi] - h {
-                    if i_hi > 0 {
-                        out.push(refine(t, y, i_hi, true, gap_after));
+                    if let Some(e) = first_extreme(t, y, i_hi, true, h, gap_after) {
+                        out.push(e);
                     }
                     dir = -1;
                     i_lo = (i_hi..=i).min_by(|&a, &b| y[a].total_cmp(&y[b])).unwrap_or(i);
                 } else if y[i] > y[i_lo] + h {
-                    if i_lo > 0 {
-                        out.push(refine(t, y, i_lo, false, gap_after));
+                    if let Some(e) = first_extreme(t, y, i_lo, false, h, gap_after) {
+                        out.push(e);
                     }
                     dir = 1;
                     i_hi = (i_lo..=i).max_by(|&a, &b| y[a].total_cmp(&y[b])).unwrap_or(i);
@@ -304,6 +306,35 @@ fn turning_points(t: &[f64], y: &[f64], h: f64, gap_after: &[bool]) -> Vec<Extre
         }
     }
     out
+}
+
+/// The first extreme, at sample `j`. When the samples up to `j` show no trend (at least 10, the
+/// means of their two halves within h/8) and all samples from the start to past `j` stay within
+/// h/2 of their median, the article was held (or the log began at rest) and let go: the extreme is
+/// put at the last sample of that still stretch, the release, with the median angle up to `j`.
+/// Otherwise it is refined as usual, unless it is the first sample.
+fn first_extreme(
+    t: &[f64],
+    y: &[f64],
+    j: usize,
+    is_max: bool,
+    h: f64,
+    gap_after: &[bool],
+) -> Option<Extreme> {
+    // Held means flat, not merely slow: the approach to a peak near the start trends, a hold does not.
+    let lead = &y[..=j.min(y.len() - 1)];
+    let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len().max(1) as f64;
+    let flat = lead.len() >= 10
+        && (mean(&lead[..lead.len() / 2]) - mean(&lead[lead.len() / 2..])).abs() < h / 8.0;
+    if flat {
+        let level = median(lead.to_vec());
+        let still = y.iter().take_while(|&&v| (v - level).abs() <= 0.5 * h).count();
+        if still > j {
+            let end = still - 1;
+            return Some(Extreme { index: end, t: t[end], value: level, is_max, clean: true });
+        }
+    }
+    (j > 0).then(|| refine(t, y, j, is_max, gap_after))
 }
 
 /// Refine the extreme at sample `j` (first sample of a flat top) with the parabola through the
