@@ -73,9 +73,11 @@ pub struct Survey {
     pub noise_rad: f64,
     /// Encoder step [rad] when the angle came in counts.
     pub encoder_step_rad: Option<f64>,
-    /// Times the angle crosses the equilibrium [s].
+    /// Times the angle crosses the equilibrium [s], before any resting tail; none inside a gap.
     pub crossings: Vec<f64>,
-    /// Extreme of every half cycle, in time order.
+    /// Extreme of every half cycle, in time order, before any resting tail. Half cycles whose
+    /// extreme sits next to a gap are left out (the true extreme may lie inside the gap). When the
+    /// log starts with the article held still, the first peak is at the release.
     pub peaks: Vec<Peak>,
 }
 
