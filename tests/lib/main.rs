@@ -9,3 +9,4 @@ mod physical;
 mod reference;
 mod report;
 mod stats;
+mod synth;
