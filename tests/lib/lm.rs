@@ -304,3 +304,141 @@ fn trial_points_where_the_model_fails_are_rejected_not_fatal() {
     let sol = lm::minimize(&p, DVector::from_column_slice(&[1.0]), &LmSettings::unbounded(1)).unwrap();
     assert!((sol.x[0] - 0.01).abs() < 1e-12, "x = {}", sol.x[0]);
 }
+
+// ---- uncertainty: widening, bootstrap, flags ----
+
+use rand::{SeedableRng, rngs::StdRng};
+use rand_distr::{Distribution, Normal};
+use uncertainty::{BlockBootstrap, Covariance, FlagKind, IntervalMethod};
+
+fn white(n: usize, seed: u64) -> Vec<f64> {
+    let mut rng = StdRng::seed_from_u64(seed);
+    let normal = Normal::new(0.0, 1.0).unwrap();
+    (0..n).map(|_| normal.sample(&mut rng)).collect()
+}
+
+fn ar1(n: usize, rho: f64, seed: u64) -> Vec<f64> {
+    let e = white(n, seed);
+    let mut out = Vec::with_capacity(n);
+    let mut prev = 0.0;
+    for v in e {
+        prev = rho * prev + v;
+        out.push(prev);
+    }
+    out
+}
+
+fn unit_covariance(n: usize, std: &[f64], corr: DMatrix<f64>) -> Covariance {
+    let p = std.len();
+    let cov = DMatrix::from_fn(p, p, |i, j| corr[(i, j)] * std[i] * std[j]);
+    Covariance { n, dof: n - p, s2: 1.0, cov, std: DVector::from_column_slice(std), corr, condition: 1.0 }
+}
+
+#[test]
+fn effective_sample_size_follows_the_ar1_rule() {
+    // n_eff = n(1 − ρ)/(1 + ρ) [common practice; Bretherton et al. 1999 [memory]].
+    assert!((uncertainty::effective_sample_size(300, 0.5) - 100.0).abs() < 1e-12);
+    assert!((uncertainty::effective_sample_size(300, -0.3) - 300.0).abs() < 1e-12);
+    assert!((uncertainty::effective_sample_size(300, 1.0) - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn correlated_residuals_widen_intervals_by_effective_sample_size() {
+    let res = ar1(2000, 0.8, 7);
+    let x = DVector::from_column_slice(&[1.0, 2.0]);
+    let cov = unit_covariance(2000, &[0.1, 0.2], DMatrix::identity(2, 2));
+    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
+    let IntervalMethod::EffectiveSampleSize { rho1, n_eff, factor } = iv.method else {
+        panic!("expected widening, got {:?}", iv.method);
+    };
+    assert!((rho1 - 0.8).abs() < 0.05, "rho1 {rho1}");
+    assert!((n_eff - 2000.0 * (1.0 - rho1) / (1.0 + rho1)).abs() < 1e-9);
+    assert!((factor - ((1.0 + rho1) / (1.0 - rho1)).sqrt()).abs() < 1e-12);
+    assert!((iv.params[1].std - 0.2 * factor).abs() < 1e-12);
+    let t = swingfit::stats::t_quantile(0.975, n_eff - 2.0).unwrap();
+    assert!((iv.params[1].half_width() - t * 0.2 * factor).abs() < 1e-12);
+    assert!(iv.whiteness.as_ref().unwrap().p_value < 1e-10);
+}
+
+#[test]
+fn white_residuals_keep_plain_intervals() {
+    let res = white(2000, 11);
+    let x = DVector::from_column_slice(&[1.0]);
+    let cov = unit_covariance(2000, &[0.1], DMatrix::identity(1, 1));
+    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
+    assert_eq!(iv.method, IntervalMethod::Plain, "p = {}", iv.whiteness.as_ref().unwrap().p_value);
+    assert!((iv.params[0].std - 0.1).abs() < 1e-15);
+}
+
+#[test]
+fn moving_block_bootstrap_resamples_whole_blocks_reproducibly() {
+    let res: Vec<f64> = (0..100).map(|i| i as f64).collect();
+    let mut a = BlockBootstrap::new(&res, 7, 42).unwrap();
+    let mut b = BlockBootstrap::new(&res, 7, 42).unwrap();
+    let mut c = BlockBootstrap::new(&res, 7, 43).unwrap();
+    let (sa, sb, sc) = (a.sample(), b.sample(), c.sample());
+    assert_eq!(sa, sb);
+    assert_ne!(sa, sc);
+    assert_eq!(sa.len(), 100);
+    // Every block of 7 is a run of consecutive values of the original series.
+    for block in sa.as_slice().chunks(7) {
+        assert!(block.windows(2).all(|w| (w[1] - w[0] - 1.0).abs() < 1e-12), "{block:?}");
+        assert!(block[0] >= 0.0 && block[0] <= 93.0);
+    }
+    // Successive draws differ.
+    assert_ne!(a.sample(), sa);
+    assert!(BlockBootstrap::new(&res, 0, 1).is_err());
+    assert!(BlockBootstrap::new(&res, 101, 1).is_err());
+    assert!(BlockBootstrap::new(&[], 1, 1).is_err());
+}
+
+#[test]
+fn block_length_rule_grows_with_correlation_time() {
+    // White noise: ⌈n^{1/3}⌉ = 10 for n = 1000; AR(1) with ρ = 0.98: correlation time ≈ 1/(1−ρ) ≈ 50.
+    assert_eq!(uncertainty::block_length_rule(&white(1000, 3)), 10);
+    let l = uncertainty::block_length_rule(&ar1(20_000, 0.98, 5));
+    assert!((30..=80).contains(&l), "block length {l}");
+}
+
+#[test]
+fn bootstrap_intervals_use_replicate_scatter() {
+    let x = DVector::from_column_slice(&[1.0, 10.0]);
+    let reps: Vec<DVector<f64>> = [0.9, 1.0, 1.1].iter().map(|&v| DVector::from_column_slice(&[v, 10.0 + 2.0 * (v - 1.0)])).collect();
+    let iv = uncertainty::bootstrap_intervals(&x, &reps, 50.0, 12, 9).unwrap();
+    assert_eq!(iv.method, IntervalMethod::Bootstrap { replicates: 3, block_length: 12, seed: 9 });
+    assert!((iv.params[0].std - 0.1).abs() < 1e-12);
+    assert!((iv.params[1].std - 0.2).abs() < 1e-12);
+    assert!(uncertainty::bootstrap_intervals(&x, &reps[..1], 50.0, 12, 9).is_err());
+}
+
+#[test]
+fn flags_name_inseparable_and_unconstrained_parameters() {
+    let names = ["omega_n", "coulomb", "quadratic"];
+    let mut corr = DMatrix::identity(3, 3);
+    corr[(1, 2)] = 0.993;
+    corr[(2, 1)] = 0.993;
+    let cov = unit_covariance(500, &[0.001, 0.01, 0.02], corr);
+    let x = DVector::from_column_slice(&[3.0, 0.05, 0.01]);
+    let iv = uncertainty::plain_intervals(&x, &cov).unwrap();
+    let flags = uncertainty::identifiability_flags(&names, &cov, &iv);
+    assert_eq!(flags.len(), 2, "{flags:?}");
+    assert_eq!(
+        flags[0].message,
+        "coulomb and quadratic are 0.993 correlated: the data cannot separate them; a second release at a clearly different amplitude would"
+    );
+    assert_eq!(flags[0].kind, FlagKind::Correlated { other: 2, r: 0.993 });
+    assert_eq!(flags[1].param, 2);
+    assert!(matches!(flags[1].kind, FlagKind::WideInterval { .. }));
+    assert!(flags[1].message.starts_with("quadratic is not identified: its 95 % interval"), "{}", flags[1].message);
+}
+
+#[test]
+fn covariance_needs_degrees_of_freedom() {
+    let jtj = DMatrix::identity(3, 3);
+    assert!(matches!(uncertainty::covariance(&jtj, 1.0, 3), Err(uncertainty::UncertaintyError::NoDegreesOfFreedom { n: 3, p: 3 })));
+    assert!(uncertainty::covariance(&jtj, f64::NAN, 10).is_err());
+    let c = uncertainty::covariance(&DMatrix::from_row_slice(2, 2, &[4.0, 0.0, 0.0, 0.25]), 8.0, 10).unwrap();
+    // s² = 8/8 = 1; Cov = diag(1/4, 4).
+    assert!((c.std[0] - 0.5).abs() < 1e-15 && (c.std[1] - 2.0).abs() < 1e-15);
+    assert!((c.condition - 1.0).abs() < 1e-12);
+}
