@@ -57,7 +57,9 @@ pub enum PhysicalError {
         value: f64,
     },
     /// The fit covariance does not match the fitted terms.
-    #[error("fit covariance is {rows}x{cols}, expected {expected}x{expected} (omega_n plus the fitted terms)")]
+    #[error(
+        "fit covariance is {rows}x{cols}, expected {expected}x{expected} (omega_n plus the fitted terms)"
+    )]
     Covariance {
         /// Rows found.
         rows: usize,
@@ -68,8 +70,17 @@ pub enum PhysicalError {
     },
 }
 
-fn require(field: &'static str, expected: &'static str, value: f64, ok: bool) -> Result<(), PhysicalError> {
-    if ok && value.is_finite() { Ok(()) } else { Err(PhysicalError::Input { field, expected, value }) }
+fn require(
+    field: &'static str,
+    expected: &'static str,
+    value: f64,
+    ok: bool,
+) -> Result<(), PhysicalError> {
+    if ok && value.is_finite() {
+        Ok(())
+    } else {
+        Err(PhysicalError::Input { field, expected, value })
+    }
 }
 
 /// WGS 84 normal gravity on the ellipsoid at geodetic latitude `latitude_deg` (Somigliana's
@@ -84,11 +95,17 @@ pub fn somigliana(latitude_deg: f64) -> f64 {
 /// γ_h = γ [1 − (2/a)(1 + f + m − 2f sin²φ) h + (3/a²) h²] (TR8350.2 ch. 4 `[memory]`).
 pub fn normal_gravity(latitude_deg: f64, elevation_m: f64) -> Result<f64, PhysicalError> {
     require("latitude", "degrees between -90 and 90", latitude_deg, latitude_deg.abs() <= 90.0)?;
-    require("elevation", "metres between -11000 and 20000", elevation_m, (-11_000.0..=20_000.0).contains(&elevation_m))?;
+    require(
+        "elevation",
+        "metres between -11000 and 20000",
+        elevation_m,
+        (-11_000.0..=20_000.0).contains(&elevation_m),
+    )?;
     let s2 = latitude_deg.to_radians().sin().powi(2);
     let h = elevation_m;
     let a = WGS84_A;
-    let factor = 1.0 - 2.0 / a * (1.0 + WGS84_F + WGS84_M - 2.0 * WGS84_F * s2) * h + 3.0 / (a * a) * h * h;
+    let factor =
+        1.0 - 2.0 / a * (1.0 + WGS84_F + WGS84_M - 2.0 * WGS84_F * s2) * h + 3.0 / (a * a) * h * h;
     Ok(somigliana(latitude_deg) * factor)
 }
 
@@ -128,14 +145,28 @@ impl Gravity {
     /// A user-given value (m/s², 9.7…9.9 on Earth is not enforced; must be positive).
     pub fn given(value: f64, u: f64) -> Result<Gravity, PhysicalError> {
         require("gravity", "a positive acceleration in m/s^2", value, value > 0.0)?;
-        require("gravity uncertainty", "a non-negative standard uncertainty in m/s^2", u, u >= 0.0)?;
+        require(
+            "gravity uncertainty",
+            "a non-negative standard uncertainty in m/s^2",
+            u,
+            u >= 0.0,
+        )?;
         Ok(Gravity { value, u, source: GravitySource::Given })
     }
 
     /// WGS 84 normal gravity at a location ([`normal_gravity`]), with standard uncertainty `u`
     /// (0 if the formula is taken as exact; local anomalies are tens of mGal).
-    pub fn at_location(latitude_deg: f64, elevation_m: f64, u: f64) -> Result<Gravity, PhysicalError> {
-        require("gravity uncertainty", "a non-negative standard uncertainty in m/s^2", u, u >= 0.0)?;
+    pub fn at_location(
+        latitude_deg: f64,
+        elevation_m: f64,
+        u: f64,
+    ) -> Result<Gravity, PhysicalError> {
+        require(
+            "gravity uncertainty",
+            "a non-negative standard uncertainty in m/s^2",
+            u,
+            u >= 0.0,
+        )?;
         let value = normal_gravity(latitude_deg, elevation_m)?;
         Ok(Gravity { value, u, source: GravitySource::NormalGravity { latitude_deg, elevation_m } })
     }
@@ -144,7 +175,9 @@ impl Gravity {
     pub fn describe(&self) -> String {
         match &self.source {
             GravitySource::Standard => format!("standard gravity {} m/s^2", self.value),
-            GravitySource::Given => format!("given gravity {} m/s^2 (u {} m/s^2)", self.value, self.u),
+            GravitySource::Given => {
+                format!("given gravity {} m/s^2 (u {} m/s^2)", self.value, self.u)
+            }
             GravitySource::NormalGravity { latitude_deg, elevation_m } => format!(
                 "wgs 84 normal gravity {:.7} m/s^2 at latitude {latitude_deg} deg, elevation {elevation_m} m",
                 self.value
@@ -238,10 +271,14 @@ impl Coefficient {
     pub fn unit(self) -> &'static str {
         match self {
             Coefficient::InertiaPivot | Coefficient::InertiaCg => "kg*m^2",
-            Coefficient::GyrationPivot | Coefficient::GyrationCg | Coefficient::EquivalentLength => "m",
+            Coefficient::GyrationPivot
+            | Coefficient::GyrationCg
+            | Coefficient::EquivalentLength => "m",
             Coefficient::Damping(t) => t.physical_unit(),
             Coefficient::Period => "s",
-            Coefficient::DampingRatio | Coefficient::LogDecrement | Coefficient::QualityFactor => "1",
+            Coefficient::DampingRatio | Coefficient::LogDecrement | Coefficient::QualityFactor => {
+                "1"
+            }
         }
     }
 }
@@ -315,7 +352,7 @@ pub fn value_and_gradient(c: Coefficient, z: &Point) -> Option<(f64, [f64; input
         Coefficient::LogDecrement => {
             let b1 = z.0[DAMPING];
             let zeta = b1 / (2.0 * w);
-            if !(zeta.abs() < 1.0) {
+            if zeta.is_nan() || zeta.abs() >= 1.0 {
                 return None;
             }
             let q = 1.0 - zeta * zeta;
@@ -395,15 +432,27 @@ pub struct PhysicalCoefficients {
 /// The 7 × 7 covariance Σ of z = (m, d, g, ωn, b1, b0, b2): u² of m, d, g on the diagonal,
 /// r(m,d)·u(m)·u(d) off it, and the fit covariance in the (ωn, fitted terms) block. Unfitted
 /// terms have zero rows.
-pub fn input_covariance(inputs: &ArticleInputs, fit: &FittedDynamics) -> Result<DMatrix<f64>, PhysicalError> {
+pub fn input_covariance(
+    inputs: &ArticleInputs,
+    fit: &FittedDynamics,
+) -> Result<DMatrix<f64>, PhysicalError> {
     use input::*;
-    let idx: Vec<usize> = std::iter::once(OMEGA_N).chain(fit.terms.iter().map(|t| DAMPING + t.index())).collect();
+    let idx: Vec<usize> =
+        std::iter::once(OMEGA_N).chain(fit.terms.iter().map(|t| DAMPING + t.index())).collect();
     let k = idx.len();
     if fit.cov.nrows() != k || fit.cov.ncols() != k {
-        return Err(PhysicalError::Covariance { rows: fit.cov.nrows(), cols: fit.cov.ncols(), expected: k });
+        return Err(PhysicalError::Covariance {
+            rows: fit.cov.nrows(),
+            cols: fit.cov.ncols(),
+            expected: k,
+        });
     }
     if !fit.cov.iter().all(|v| v.is_finite()) {
-        return Err(PhysicalError::Input { field: "fit covariance", expected: "finite entries", value: f64::NAN });
+        return Err(PhysicalError::Input {
+            field: "fit covariance",
+            expected: "finite entries",
+            value: f64::NAN,
+        });
     }
     let mut s = DMatrix::zeros(LEN, LEN);
     s[(MASS, MASS)] = inputs.mass.u.powi(2);
@@ -427,9 +476,19 @@ fn check_inputs(inputs: &ArticleInputs, fit: &FittedDynamics) -> Result<(), Phys
     require("mass", "a positive mass in kg", m.value, m.value > 0.0)?;
     require("mass uncertainty", "a non-negative standard uncertainty in kg", m.u, m.u >= 0.0)?;
     require("pivot-to-cg", "a positive distance in m", d.value, d.value > 0.0)?;
-    require("pivot-to-cg uncertainty", "a non-negative standard uncertainty in m", d.u, d.u >= 0.0)?;
+    require(
+        "pivot-to-cg uncertainty",
+        "a non-negative standard uncertainty in m",
+        d.u,
+        d.u >= 0.0,
+    )?;
     require("gravity", "a positive acceleration in m/s^2", g.value, g.value > 0.0)?;
-    require("gravity uncertainty", "a non-negative standard uncertainty in m/s^2", g.u, g.u >= 0.0)?;
+    require(
+        "gravity uncertainty",
+        "a non-negative standard uncertainty in m/s^2",
+        g.u,
+        g.u >= 0.0,
+    )?;
     let r = inputs.r_mass_pivot;
     require("mass/pivot-to-cg correlation", "a coefficient between -1 and 1", r, r.abs() <= 1.0)?;
     require("omega_n", "a positive natural frequency in rad/s", fit.omega_n, fit.omega_n > 0.0)?;
@@ -441,10 +500,21 @@ fn check_inputs(inputs: &ArticleInputs, fit: &FittedDynamics) -> Result<(), Phys
 }
 
 /// Physical coefficients with GUM uncertainties (k = 2) from the article inputs and the fit.
-pub fn physical_coefficients(inputs: &ArticleInputs, fit: &FittedDynamics) -> Result<PhysicalCoefficients, PhysicalError> {
+pub fn physical_coefficients(
+    inputs: &ArticleInputs,
+    fit: &FittedDynamics,
+) -> Result<PhysicalCoefficients, PhysicalError> {
     check_inputs(inputs, fit)?;
     let sigma = input_covariance(inputs, fit)?;
-    let mut z = [inputs.mass.value, inputs.pivot_to_cg.value, inputs.gravity.value, fit.omega_n, 0.0, 0.0, 0.0];
+    let mut z = [
+        inputs.mass.value,
+        inputs.pivot_to_cg.value,
+        inputs.gravity.value,
+        fit.omega_n,
+        0.0,
+        0.0,
+        0.0,
+    ];
     for t in fit.terms.iter() {
         z[input::DAMPING + t.index()] = fit.damping[t.index()];
     }
@@ -452,12 +522,22 @@ pub fn physical_coefficients(inputs: &ArticleInputs, fit: &FittedDynamics) -> Re
     let quantity = |c: Coefficient| {
         value_and_gradient(c, &point).map(|(value, grad)| {
             let u_c = propagate(&grad, &sigma);
-            Quantity { value, u_c, k: COVERAGE_FACTOR, expanded: COVERAGE_FACTOR * u_c, unit: c.unit() }
+            Quantity {
+                value,
+                u_c,
+                k: COVERAGE_FACTOR,
+                expanded: COVERAGE_FACTOR * u_c,
+                unit: c.unit(),
+            }
         })
     };
     // Invariant: with m, d, g, ωn checked positive above, these four are always defined.
     let always = |c: Coefficient| {
-        quantity(c).ok_or(PhysicalError::Input { field: "inputs", expected: "values giving a finite inertia", value: f64::NAN })
+        quantity(c).ok_or(PhysicalError::Input {
+            field: "inputs",
+            expected: "values giving a finite inertia",
+            value: f64::NAN,
+        })
     };
     let viscous = fit.terms.contains(Term::Viscous);
     Ok(PhysicalCoefficients {
@@ -466,7 +546,8 @@ pub fn physical_coefficients(inputs: &ArticleInputs, fit: &FittedDynamics) -> Re
         gyration_pivot: always(Coefficient::GyrationPivot)?,
         gyration_cg: quantity(Coefficient::GyrationCg),
         equivalent_length: always(Coefficient::EquivalentLength)?,
-        damping: Term::ALL.map(|t| if fit.terms.contains(t) { quantity(Coefficient::Damping(t)) } else { None }),
+        damping: Term::ALL
+            .map(|t| if fit.terms.contains(t) { quantity(Coefficient::Damping(t)) } else { None }),
         period: always(Coefficient::Period)?,
         damping_ratio: if viscous { quantity(Coefficient::DampingRatio) } else { None },
         log_decrement: if viscous { quantity(Coefficient::LogDecrement) } else { None },

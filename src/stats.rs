@@ -46,7 +46,11 @@ fn check_prob(p: f64) -> Result<(), StatsError> {
 }
 
 fn check_value(what: &'static str, value: f64) -> Result<(), StatsError> {
-    if value.is_finite() && value >= 0.0 { Ok(()) } else { Err(StatsError::BadValue { what, value }) }
+    if value.is_finite() && value >= 0.0 {
+        Ok(())
+    } else {
+        Err(StatsError::BadValue { what, value })
+    }
 }
 
 /// Quantile of Student's t distribution with `dof` degrees of freedom: P(T ≤ t) = `p`.
@@ -166,7 +170,13 @@ pub fn autocorrelations(e: &[f64], h: usize) -> Vec<f64> {
         return vec![0.0; h];
     }
     (1..=h)
-        .map(|k| if k >= n { 0.0 } else { c[..n - k].iter().zip(&c[k..]).map(|(a, b)| a * b).sum::<f64>() / c0 })
+        .map(|k| {
+            if k >= n {
+                0.0
+            } else {
+                c[..n - k].iter().zip(&c[k..]).map(|(a, b)| a * b).sum::<f64>() / c0
+            }
+        })
         .collect()
 }
 
@@ -209,14 +219,20 @@ impl LjungBox {
 pub fn ljung_box(e: &[f64], lags: usize, arma_params: usize) -> Result<LjungBox, StatsError> {
     let n = e.len();
     if n < 3 || lags == 0 || lags >= n {
-        return Err(StatsError::TooFew { what: "ljung-box test", needed: (lags + 1).max(3), found: n });
+        return Err(StatsError::TooFew {
+            what: "ljung-box test",
+            needed: (lags + 1).max(3),
+            found: n,
+        });
     }
     if let Some(&bad) = e.iter().find(|v| !v.is_finite()) {
         return Err(StatsError::BadValue { what: "residual", value: bad });
     }
     let r = autocorrelations(e, lags);
     let nf = n as f64;
-    let q = nf * (nf + 2.0) * r.iter().enumerate().map(|(i, rk)| rk * rk / (nf - (i + 1) as f64)).sum::<f64>();
+    let q = nf
+        * (nf + 2.0)
+        * r.iter().enumerate().map(|(i, rk)| rk * rk / (nf - (i + 1) as f64)).sum::<f64>();
     let dof = lags.saturating_sub(arma_params).max(1);
     let p_value = chi2_sf(q, dof as f64)?;
     Ok(LjungBox { q, lags, dof, p_value, rho1: r[0] })
@@ -228,7 +244,10 @@ fn check_ic(n: usize, rss: f64, p: usize) -> Result<(), StatsError> {
         return Err(StatsError::TooFew { what: "information criterion", needed: p + 1, found: n });
     }
     if rss <= 0.0 {
-        return Err(StatsError::BadValue { what: "residual sum of squares (must be positive)", value: rss });
+        return Err(StatsError::BadValue {
+            what: "residual sum of squares (must be positive)",
+            value: rss,
+        });
     }
     Ok(())
 }
@@ -275,17 +294,30 @@ pub struct FTest {
 /// observations. Exact for linear models, approximate for nonlinear ones. `[common practice]`;
 /// Bates & Watts, *Nonlinear Regression Analysis and Its Applications*, 1988, ch. 3 `[memory]`.
 /// A negative F (the larger model fitting worse, i.e. a failed fit) is clamped to 0 (p = 1).
-pub fn nested_f_test(n: usize, rss_small: f64, p_small: usize, rss_large: f64, p_large: usize) -> Result<FTest, StatsError> {
+pub fn nested_f_test(
+    n: usize,
+    rss_small: f64,
+    p_small: usize,
+    rss_large: f64,
+    p_large: usize,
+) -> Result<FTest, StatsError> {
     check_value("residual sum of squares of the small model", rss_small)?;
     check_value("residual sum of squares of the large model", rss_large)?;
     if p_large <= p_small {
-        return Err(StatsError::TooFew { what: "f-test (parameters of the larger model)", needed: p_small + 1, found: p_large });
+        return Err(StatsError::TooFew {
+            what: "f-test (parameters of the larger model)",
+            needed: p_small + 1,
+            found: p_large,
+        });
     }
     if n <= p_large {
         return Err(StatsError::TooFew { what: "f-test", needed: p_large + 1, found: n });
     }
     if rss_large <= 0.0 {
-        return Err(StatsError::BadValue { what: "residual sum of squares of the large model (must be positive)", value: rss_large });
+        return Err(StatsError::BadValue {
+            what: "residual sum of squares of the large model (must be positive)",
+            value: rss_large,
+        });
     }
     let df1 = p_large - p_small;
     let df2 = n - p_large;

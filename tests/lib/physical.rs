@@ -7,7 +7,8 @@
 use nalgebra::DMatrix;
 use swingfit::model::{DampingSet, Term};
 use swingfit::physical::{
-    self, ArticleInputs, Coefficient, FittedDynamics, Gravity, GravitySource, Measured, PhysicalError, Point,
+    self, ArticleInputs, Coefficient, FittedDynamics, Gravity, GravitySource, Measured,
+    PhysicalError, Point,
 };
 
 fn close(a: f64, b: f64, rel: f64) -> bool {
@@ -27,7 +28,9 @@ fn standard_gravity_is_the_cgpm_value() {
 #[test]
 fn wgs84_normal_gravity_matches_table() {
     // CHECKS.md §6 table, WGS 84 Somigliana (TR8350.2 [memory]); 90° printed value is truncated: tolerance 1e-10.
-    for (lat, gamma) in [(0.0, 9.7803253359), (45.0, 9.8061977694), (60.0, 9.8191769531), (90.0, 9.8321849379)] {
+    for (lat, gamma) in
+        [(0.0, 9.7803253359), (45.0, 9.8061977694), (60.0, 9.8191769531), (90.0, 9.8321849379)]
+    {
         let got = physical::normal_gravity(lat, 0.0).unwrap();
         assert!((got - gamma).abs() < 1.5e-10, "gamma({lat}) = {got:.12}, expected {gamma}");
         assert!((physical::somigliana(lat) - got).abs() < 1e-15);
@@ -41,7 +44,9 @@ fn second_order_height_formula_matches_table() {
     assert!((physical::normal_gravity(45.0, 1000.0).unwrap() - 9.8031129436).abs() < 1e-10);
     // Vertical gradient at h = 0: 3.0877e-6 s⁻² at 0°, 3.0834e-6 at 90° (same table).
     for (lat, grad) in [(0.0, 3.0877e-6), (45.0, 3.0855e-6), (60.0, 3.0845e-6), (90.0, 3.0834e-6)] {
-        let num = (physical::normal_gravity(lat, -1.0).unwrap() - physical::normal_gravity(lat, 1.0).unwrap()) / 2.0;
+        let num = (physical::normal_gravity(lat, -1.0).unwrap()
+            - physical::normal_gravity(lat, 1.0).unwrap())
+            / 2.0;
         assert!((num - grad).abs() < 1e-10, "gradient at {lat}: {num:e}");
     }
     let g = Gravity::at_location(45.0, 100.0, 0.0).unwrap();
@@ -50,8 +55,14 @@ fn second_order_height_formula_matches_table() {
 
 #[test]
 fn gravity_inputs_are_checked() {
-    assert!(matches!(physical::normal_gravity(91.0, 0.0), Err(PhysicalError::Input { field: "latitude", .. })));
-    assert!(matches!(physical::normal_gravity(10.0, f64::NAN), Err(PhysicalError::Input { field: "elevation", .. })));
+    assert!(matches!(
+        physical::normal_gravity(91.0, 0.0),
+        Err(PhysicalError::Input { field: "latitude", .. })
+    ));
+    assert!(matches!(
+        physical::normal_gravity(10.0, f64::NAN),
+        Err(PhysicalError::Input { field: "elevation", .. })
+    ));
     assert!(Gravity::given(-9.8, 0.0).is_err());
     assert!(Gravity::given(9.8, -0.1).is_err());
     let msg = physical::normal_gravity(-95.0, 0.0).unwrap_err().to_string();
@@ -72,7 +83,12 @@ fn gum_example(r: f64) -> physical::PhysicalCoefficients {
         damping: [0.0; 3],
         cov: DMatrix::from_element(1, 1, (0.005 / (2.0 * w)).powi(2)),
     };
-    let inp = inputs(Measured { value: 2.0, u: 0.001 }, Measured { value: 0.5, u: 0.0005 }, Gravity::given(9.81, 0.001).unwrap(), r);
+    let inp = inputs(
+        Measured { value: 2.0, u: 0.001 },
+        Measured { value: 0.5, u: 0.0005 },
+        Gravity::given(9.81, 0.001).unwrap(),
+        r,
+    );
     physical::physical_coefficients(&inp, &fit).unwrap()
 }
 
@@ -107,7 +123,12 @@ fn rod_example_reproduces_section_1_and_3() {
         damping: [0.075, 0.0, 0.003],
         cov: DMatrix::zeros(3, 3),
     };
-    let inp = inputs(Measured { value: 2.0, u: 0.0 }, Measured { value: 0.5, u: 0.0 }, Gravity::standard(), 0.0);
+    let inp = inputs(
+        Measured { value: 2.0, u: 0.0 },
+        Measured { value: 0.5, u: 0.0 },
+        Gravity::standard(),
+        0.0,
+    );
     let pc = physical::physical_coefficients(&inp, &fit).unwrap();
     assert!(close(w, 3.83535852300668, 1e-13));
     assert!(close(pc.inertia_pivot.value, 2.0 / 3.0, 1e-13));
@@ -150,9 +171,15 @@ fn analytic_sensitivities_match_central_differences() {
             let (mut up, mut dn) = (z, z);
             up.0[i] += h;
             dn.0[i] -= h;
-            let fd = (physical::value_and_gradient(c, &up).unwrap().0 - physical::value_and_gradient(c, &dn).unwrap().0) / (2.0 * h);
+            let fd = (physical::value_and_gradient(c, &up).unwrap().0
+                - physical::value_and_gradient(c, &dn).unwrap().0)
+                / (2.0 * h);
             let scale = grad.iter().map(|g| g.abs()).fold(0.0, f64::max);
-            assert!((fd - grad[i]).abs() <= 1e-7 * scale, "{c:?} d/dz{i}: analytic {} vs central {fd}", grad[i]);
+            assert!(
+                (fd - grad[i]).abs() <= 1e-7 * scale,
+                "{c:?} d/dz{i}: analytic {} vs central {fd}",
+                grad[i]
+            );
         }
     }
 }
@@ -171,11 +198,20 @@ fn fit_covariance_enters_with_its_correlation() {
             cov: DMatrix::from_row_slice(2, 2, &[uw * uw, r * uw * ub, r * uw * ub, ub * ub]),
         }
     };
-    let inp = inputs(Measured { value: 1.0, u: 0.0 }, Measured { value: 0.3, u: 0.0 }, Gravity::standard(), 0.0);
-    let u = |r: f64| physical::physical_coefficients(&inp, &base(r)).unwrap().damping[0].as_ref().unwrap().u_c;
+    let inp = inputs(
+        Measured { value: 1.0, u: 0.0 },
+        Measured { value: 0.3, u: 0.0 },
+        Gravity::standard(),
+        0.0,
+    );
+    let u = |r: f64| {
+        physical::physical_coefficients(&inp, &base(r)).unwrap().damping[0].as_ref().unwrap().u_c
+    };
     let j = 1.0 * physical::STANDARD_GRAVITY * 0.3 / (w * w);
     let (cw, cb) = (-2.0 * 0.05 * j / w, j);
-    let expect = |r: f64| ((cw * 0.01f64).powi(2) + (cb * 0.002f64).powi(2) + 2.0 * r * cw * cb * 0.01 * 0.002).sqrt();
+    let expect = |r: f64| {
+        ((cw * 0.01f64).powi(2) + (cb * 0.002f64).powi(2) + 2.0 * r * cw * cb * 0.01 * 0.002).sqrt()
+    };
     assert!(close(u(0.0), expect(0.0), 1e-12));
     assert!(close(u(0.8), expect(0.8), 1e-12));
     assert!(u(0.8) < u(0.0));
@@ -183,15 +219,27 @@ fn fit_covariance_enters_with_its_correlation() {
 
 #[test]
 fn bad_physical_inputs_are_errors() {
-    let fit = FittedDynamics { omega_n: 3.0, terms: DampingSet::EMPTY, damping: [0.0; 3], cov: DMatrix::zeros(1, 1) };
+    let fit = FittedDynamics {
+        omega_n: 3.0,
+        terms: DampingSet::EMPTY,
+        damping: [0.0; 3],
+        cov: DMatrix::zeros(1, 1),
+    };
     let ok_m = Measured { value: 1.0, u: 0.0 };
     let bad = inputs(Measured { value: -1.0, u: 0.0 }, ok_m, Gravity::standard(), 0.0);
-    assert!(matches!(physical::physical_coefficients(&bad, &fit), Err(PhysicalError::Input { field: "mass", .. })));
+    assert!(matches!(
+        physical::physical_coefficients(&bad, &fit),
+        Err(PhysicalError::Input { field: "mass", .. })
+    ));
     let bad_r = inputs(ok_m, ok_m, Gravity::standard(), 1.5);
     assert!(physical::physical_coefficients(&bad_r, &fit).is_err());
-    let wrong_cov = FittedDynamics { terms: DampingSet::from_terms(&[Term::Coulomb]), ..fit.clone() };
+    let wrong_cov =
+        FittedDynamics { terms: DampingSet::from_terms(&[Term::Coulomb]), ..fit.clone() };
     let good = inputs(ok_m, Measured { value: 0.2, u: 0.0 }, Gravity::standard(), 0.0);
-    assert!(matches!(physical::physical_coefficients(&good, &wrong_cov), Err(PhysicalError::Covariance { expected: 2, .. })));
+    assert!(matches!(
+        physical::physical_coefficients(&good, &wrong_cov),
+        Err(PhysicalError::Covariance { expected: 2, .. })
+    ));
     // Inconsistent article (d too long for the measured ωn): J_cg < 0, no radius of gyration about the CG.
     let long = inputs(ok_m, Measured { value: 5.0, u: 0.0 }, Gravity::standard(), 0.0);
     let pc = physical::physical_coefficients(&long, &fit).unwrap();

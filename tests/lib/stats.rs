@@ -31,7 +31,14 @@ fn student_t_quantiles_match_checks() {
         assert!(close(got, t, 1e-10), "t(0.975, {nu}) = {got}, expected {t}");
     }
     // scipy.stats.t.ppf (tests/data/stats/reference.py → reference.txt), non-integer and large ν.
-    for (nu, t) in [(0.5, 164.557673480488), (1.5, 6.01666310442793), (4.2, 2.72507272259237), (99.0, 1.98421695158642), (250.0, 1.96949839342115), (1.2e5, 1.95998375366298)] {
+    for (nu, t) in [
+        (0.5, 164.557673480488),
+        (1.5, 6.01666310442793),
+        (4.2, 2.72507272259237),
+        (99.0, 1.98421695158642),
+        (250.0, 1.96949839342115),
+        (1.2e5, 1.95998375366298),
+    ] {
         let got = stats::t_quantile(0.975, nu).unwrap();
         assert!(close(got, t, 1e-11), "t(0.975, {nu}) = {got}, expected {t}");
         assert!(close(stats::t_quantile(0.025, nu).unwrap(), -t, 1e-11));
@@ -43,7 +50,13 @@ fn student_t_quantiles_match_checks() {
 #[test]
 fn chi2_quantiles_and_tails_match_checks() {
     // CHECKS.md §8, χ²_{0.95}(k).
-    for (k, q) in [(1.0, 3.84145882069), (3.0, 7.81472790325), (5.0, 11.0704976935), (10.0, 18.3070380533), (20.0, 31.4104328442)] {
+    for (k, q) in [
+        (1.0, 3.84145882069),
+        (3.0, 7.81472790325),
+        (5.0, 11.0704976935),
+        (10.0, 18.3070380533),
+        (20.0, 31.4104328442),
+    ] {
         let got = stats::chi2_quantile(0.95, k).unwrap();
         assert!(close(got, q, 1e-9), "chi2(0.95, {k}) = {got}, expected {q}");
         assert!((stats::chi2_sf(q, k).unwrap() - 0.05).abs() < 1e-10);
@@ -54,7 +67,12 @@ fn chi2_quantiles_and_tails_match_checks() {
 #[test]
 fn f_quantiles_match_checks() {
     // CHECKS.md §8, F_{0.95}(d1, d2).
-    for (d1, d2, q) in [(1.0, 10.0, 4.96460274373), (1.0, 100.0, 3.93614298631), (2.0, 30.0, 3.31582950101), (3.0, 200.0, 2.64975164340)] {
+    for (d1, d2, q) in [
+        (1.0, 10.0, 4.96460274373),
+        (1.0, 100.0, 3.93614298631),
+        (2.0, 30.0, 3.31582950101),
+        (3.0, 200.0, 2.64975164340),
+    ] {
         let got = stats::f_quantile(0.95, d1, d2).unwrap();
         assert!(close(got, q, 1e-9), "F(0.95, {d1}, {d2}) = {got}, expected {q}");
         assert!((stats::f_sf(q, d1, d2).unwrap() - 0.05).abs() < 1e-10);
@@ -65,7 +83,12 @@ fn f_quantiles_match_checks() {
 #[test]
 fn f_tail_with_a_long_record_matches_scipy() {
     // scipy.stats.f.sf (tests/data/stats/reference.txt): denominators as large as a 120 000-sample log.
-    for (x, d1, d2, sf) in [(3.0, 2.0, 1e4, 0.0498318789677974), (3.0, 2.0, 1.2e5, 0.0497908024135489), (19.1219512195, 1.0, 1.2e5, 1.22729408616374e-05), (2.0, 5.0, 1e6, 0.0752362378553056)] {
+    for (x, d1, d2, sf) in [
+        (3.0, 2.0, 1e4, 0.0498318789677974),
+        (3.0, 2.0, 1.2e5, 0.0497908024135489),
+        (19.1219512195, 1.0, 1.2e5, 1.22729408616374e-05),
+        (2.0, 5.0, 1e6, 0.0752362378553056),
+    ] {
         let got = stats::f_sf(x, d1, d2).unwrap();
         assert!(close(got, sf, 1e-8), "F.sf({x}, {d1}, {d2}) = {got:e}, expected {sf:e}");
     }
@@ -138,7 +161,10 @@ fn bad_arguments_are_errors_not_panics() {
     assert!(matches!(stats::aicc(3, 1.0, 2), Err(StatsError::TooFew { .. })));
     assert!(matches!(stats::nested_f_test(10, 1.0, 3, 0.5, 3), Err(StatsError::TooFew { .. })));
     assert!(matches!(stats::ljung_box(&[1.0, 2.0], 1, 0), Err(StatsError::TooFew { .. })));
-    assert!(matches!(stats::ljung_box(&[1.0, f64::NAN, 2.0, 0.0], 1, 0), Err(StatsError::BadValue { .. })));
+    assert!(matches!(
+        stats::ljung_box(&[1.0, f64::NAN, 2.0, 0.0], 1, 0),
+        Err(StatsError::BadValue { .. })
+    ));
     // Messages are one lowercase line.
     let msg = stats::t_quantile(0.975, -2.0).unwrap_err().to_string();
     assert_eq!(msg, "degrees of freedom must be positive and finite, found -2");
