@@ -150,6 +150,16 @@ impl FitOutcome {
         (self.rss / self.n_independent.max(1) as f64).sqrt()
     }
 
+    /// The fitted dynamics and their covariance, as the physical propagation takes them.
+    pub fn dynamics(&self) -> crate::physical::FittedDynamics {
+        crate::physical::FittedDynamics {
+            omega_n: self.physics.omega_n,
+            terms: self.damping,
+            damping: self.physics.damping,
+            cov: self.physics_covariance(),
+        }
+    }
+
     /// Covariance of the shared physics block [ωn, fitted terms…].
     pub fn physics_covariance(&self) -> DMatrix<f64> {
         let k = 1 + self.damping.len();

@@ -9,7 +9,7 @@ use super::{CmdResult, Failure, LoaderArgs};
 use crate::data::AngleLog;
 use crate::fit::{self, FitOptions, FitOutcome};
 use crate::model::DampingSet;
-use crate::physical::{self, PhysicalResult};
+use crate::physical::{self, ArticleInputs, Gravity, Measured, PhysicalCoefficients};
 use crate::report::{atomic, json, table};
 
 /// The article's mass properties and the local gravity, for physical coefficients.
@@ -109,7 +109,7 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
 }
 
 /// The article's physical inputs, when mass and pivot-to-CG are both given.
-pub fn article(args: &ArticleArgs) -> Result<Option<physical::Article>, Failure> {
+pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
     match (args.mass, args.pivot_to_cg) {
         (None, None) => Ok(None),
         (Some(_), None) | (None, Some(_)) => {
@@ -117,18 +117,28 @@ pub fn article(args: &ArticleArgs) -> Result<Option<physical::Article>, Failure>
         }
         (Some(m), Some(d)) => {
             let gravity = match (args.gravity, args.latitude) {
-                (Some(g), _) => physical::GravitySpec::Given { value: g, std: args.gravity_std },
-                (None, Some(lat)) => physical::GravitySpec::Normal { latitude_deg: lat, elevation_m: args.elevation },
-                (None, None) => physical::GravitySpec::Standard,
+                (Some(g), _) => Gravity::given(g, args.gravity_std),
+                (None, Some(lat)) => Gravity::at_location(lat, args.elevation, args.gravity_std),
+                (None, None) => Ok(Gravity::standard()),
+            }
+            .map_err(|e| Failure::input(format!("gravity: {e}")))?;
+            let inputs = ArticleInputs {
+                mass: Measured { value: m, u: args.mass_std },
+                pivot_to_cg: Measured { value: d, u: args.pivot_to_cg_std },
+                gravity,
+                r_mass_pivot: 0.0,
             };
-            physical::Article::new(m, args.mass_std, d, args.pivot_to_cg_std, gravity).map(Some).map_err(Failure::input)
+            physical::check_article(&inputs).map_err(Failure::input)?;
+            Ok(Some(inputs))
         }
     }
 }
 
 /// Physical coefficients of a fit.
-pub fn physical_of(fit: &FitOutcome, article: Option<&physical::Article>) -> Result<Option<PhysicalResult>, Failure> {
-    article.map(|a| physical::propagate(a, fit).map_err(Failure::rejected)).transpose()
+pub fn physical_of(fit: &FitOutcome, article: Option<&ArticleInputs>) -> Result<Option<PhysicalCoefficients>, Failure> {
+    article
+        .map(|a| physical::physical_coefficients(a, &fit.dynamics()).map_err(Failure::rejected))
+        .transpose()
 }
 
 /// Run `fit`.

@@ -46,7 +46,7 @@ impl Case {
     pub fn log(&self, name: &str) -> AngleLog {
         let angles = self.clean();
         let format = LogFormat {
-            unit: if self.counts_per_rev.is_some() { OutputUnit::Counts } else { OutputUnit::Radians },
+            unit: if self.counts_per_rev.is_some() { OutputUnit::Counts } else { OutputUnit::Rad },
             counts_per_rev: self.counts_per_rev,
             noise_sd_rad: self.noise_rad,
             seed: self.seed,
