@@ -16,22 +16,22 @@ use crate::report::{atomic, json, table};
 #[derive(Args, Debug, Clone, Default)]
 pub struct ArticleArgs {
     /// Mass of the swinging article [kg].
-    #[arg(long, value_name = "KG")]
+    #[arg(long, value_name = "KG", allow_hyphen_values = true)]
     pub mass: Option<f64>,
     /// Standard uncertainty of the mass [kg].
-    #[arg(long, value_name = "KG", default_value_t = 0.0)]
+    #[arg(long, value_name = "KG", default_value_t = 0.0, allow_hyphen_values = true)]
     pub mass_std: f64,
     /// Distance from the pivot axis to the centre of gravity [m].
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub pivot_to_cg: Option<f64>,
     /// Standard uncertainty of the pivot-to-CG distance [m].
-    #[arg(long, value_name = "M", default_value_t = 0.0)]
+    #[arg(long, value_name = "M", default_value_t = 0.0, allow_hyphen_values = true)]
     pub pivot_to_cg_std: f64,
     /// Local gravity [m/s²] (default: standard gravity 9.80665, or from --latitude).
-    #[arg(long, value_name = "M/S2", conflicts_with = "latitude")]
+    #[arg(long, value_name = "M/S2", conflicts_with = "latitude", allow_hyphen_values = true)]
     pub gravity: Option<f64>,
     /// Standard uncertainty of --gravity [m/s²].
-    #[arg(long, value_name = "M/S2", default_value_t = 0.0)]
+    #[arg(long, value_name = "M/S2", default_value_t = 0.0, allow_hyphen_values = true)]
     pub gravity_std: f64,
     /// Geodetic latitude of the rig [deg], for normal gravity (WGS 84).
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
