@@ -9,6 +9,7 @@
 
 mod check;
 pub mod fit;
+pub mod sheet;
 mod simulate;
 
 use std::ffi::OsString;
@@ -42,7 +43,11 @@ impl Failure {
 pub type CmdResult = Result<(), Failure>;
 
 #[derive(Parser, Debug)]
-#[command(name = "swingfit", version, about = "Moment of inertia and damping of a swinging test article, from its angle logs")]
+#[command(
+    name = "swingfit",
+    version,
+    about = "Moment of inertia and damping of a swinging test article, from its angle logs"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -56,6 +61,8 @@ enum Command {
     Simulate(simulate::SimulateArgs),
     /// Fit the logs of one article and report its coefficients with intervals.
     Fit(fit::FitArgs),
+    /// Fit an article and write its coefficient sheet (HTML, Markdown, JSON and plots) to a directory.
+    Sheet(sheet::SheetArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -113,6 +120,7 @@ where
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
+        Command::Sheet(a) => sheet::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -218,7 +218,9 @@ pub fn fit_surveyed(
     let layout = Layout { damping: options.damping, n_runs: logs.len() };
     let pairs: Vec<(&AngleLog, &Survey)> = logs.iter().zip(surveys).collect();
     let (physics0, releases0): (Physics, Vec<Release>) = match warm {
-        Some((p, r)) if r.len() == logs.len() => (seed_terms(p, &pairs, options.damping), r.to_vec()),
+        Some((p, r)) if r.len() == logs.len() => {
+            (seed_terms(p, &pairs, options.damping), r.to_vec())
+        }
         _ => {
             let p = start::physics(&pairs, options.damping).map_err(|e| FitError::NoStart {
                 log: logs.iter().map(|l| l.source()).collect::<Vec<_>>().join(", "),
@@ -243,7 +245,11 @@ pub fn fit_surveyed(
             .iter()
             .map(|l| {
                 let t0 = l.times()[0];
-                let n = if last { l.len() } else { l.times().partition_point(|t| t - t0 <= horizon).max(20) };
+                let n = if last {
+                    l.len()
+                } else {
+                    l.times().partition_point(|t| t - t0 <= horizon).max(20)
+                };
                 RunData { times: &l.times()[..n], angles: &l.angles()[..n], max_step }
             })
             .collect();
@@ -262,7 +268,12 @@ pub fn fit_surveyed(
                     detail: "the parameters are not identifiable from these data".into(),
                 });
             }
-            Err(e) => return Err(FitError::NotConverged { damping: options.damping, reason: e.to_string() }),
+            Err(e) => {
+                return Err(FitError::NotConverged {
+                    damping: options.damping,
+                    reason: e.to_string(),
+                });
+            }
         };
         iterations_total += sol.iterations;
         x = sol.x.clone();
@@ -275,7 +286,8 @@ pub fn fit_surveyed(
 
 /// Physics from an earlier fit, with start values for terms it did not have.
 fn seed_terms(p: &Physics, pairs: &[(&AngleLog, &Survey)], set: DampingSet) -> Physics {
-    let peaks: Vec<&[crate::data::survey::Peak]> = pairs.iter().map(|(_, s)| s.peaks.as_slice()).collect();
+    let peaks: Vec<&[crate::data::survey::Peak]> =
+        pairs.iter().map(|(_, s)| s.peaks.as_slice()).collect();
     let fresh = start::damping(&peaks, p.omega_n, set);
     let mut out = Physics::undamped(p.omega_n);
     for t in set.iter() {
@@ -318,7 +330,9 @@ fn finish(
     let unc = uncertainty::assess(&sol.at_min, n_obs, &residuals, &layout.names(), &x)
         .map_err(|e| FitError::Singular { damping: options.damping, detail: e.to_string() })?;
     let (covariance, interval_method) = match options.bootstrap {
-        Some(b) if b >= 2 => bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &unc)?,
+        Some(b) if b >= 2 => {
+            bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &unc)?
+        }
         _ => (unc.covariance.clone(), unc.method.clone()),
     };
     let t95 = unc.t95;
@@ -327,8 +341,12 @@ fn finish(
         Estimate { value: x[i], std: s, ci95: (x[i] - t95 * s, x[i] + t95 * s), unit }
     };
     let physics = layout.physics(&x);
-    let terms: Vec<(Term, Estimate)> =
-        options.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
+    let terms: Vec<(Term, Estimate)> = options
+        .damping
+        .iter()
+        .enumerate()
+        .map(|(i, t)| (t, est(1 + i, t.normalized_unit())))
+        .collect();
     let mut flags = unc.flags.clone();
     let runs: Vec<RunFit> = (0..logs.len())
         .map(|k| {
@@ -412,8 +430,13 @@ fn bootstrap(
                 .iter()
                 .enumerate()
                 .map(|(k, l)| {
-                    let e = uncertainty::block_resample(&residuals[k], block, seed.wrapping_add(k as u64 * 7919));
-                    let y: Vec<f64> = trajectories[k].angle.iter().zip(&e).map(|(m, r)| m - r).collect();
+                    let e = uncertainty::block_resample(
+                        &residuals[k],
+                        block,
+                        seed.wrapping_add(k as u64 * 7919),
+                    );
+                    let y: Vec<f64> =
+                        trajectories[k].angle.iter().zip(&e).map(|(m, r)| m - r).collect();
                     AngleLog::from_samples(l.source(), l.times().to_vec(), y).ok()
                 })
                 .collect();

@@ -12,11 +12,12 @@
 //! - [`report`] turns results into tables, JSON, plots and the coefficient sheet.
 //! - [`cli`] is the thin command line over all of it.
 
+pub mod article;
 pub mod cli;
 pub mod data;
+pub mod fit;
 pub mod integrate;
 pub mod model;
-pub mod fit;
 pub mod physical;
 pub mod report;
 pub mod stats;

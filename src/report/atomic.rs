@@ -17,23 +17,17 @@ static COUNTER: AtomicU64 = AtomicU64::new(0);
 /// `path` is left as it was.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
     let file_name = path.file_name().ok_or_else(|| {
-        io::Error::new(
-            io::ErrorKind::InvalidInput,
-            format!("{}: not a file name", path.display()),
-        )
+        io::Error::new(io::ErrorKind::InvalidInput, format!("{}: not a file name", path.display()))
     })?;
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
     };
     let (tmp, mut file) = create_temp(&dir, &file_name.to_string_lossy())?;
-    let result = file
-        .write_all(bytes)
-        .and_then(|()| file.sync_all())
-        .and_then(|()| {
-            drop(file);
-            fs::rename(&tmp, path)
-        });
+    let result = file.write_all(bytes).and_then(|()| file.sync_all()).and_then(|()| {
+        drop(file);
+        fs::rename(&tmp, path)
+    });
     if result.is_err() {
         let _ = fs::remove_file(&tmp);
     }

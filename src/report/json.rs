@@ -49,7 +49,13 @@ pub struct P {
 
 impl From<&Estimate> for P {
     fn from(e: &Estimate) -> P {
-        P { value: e.value, std: e.std, ci95: [e.ci95.0, e.ci95.1], unit: e.unit.to_string(), expanded_k2: None }
+        P {
+            value: e.value,
+            std: e.std,
+            ci95: [e.ci95.0, e.ci95.1],
+            unit: e.unit.to_string(),
+            expanded_k2: None,
+        }
     }
 }
 
@@ -262,9 +268,14 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
         },
         correlation: Correlation {
             names: fit.names.clone(),
-            matrix: (0..fit.correlation.nrows()).map(|i| fit.correlation.row(i).iter().copied().collect()).collect(),
+            matrix: (0..fit.correlation.nrows())
+                .map(|i| fit.correlation.row(i).iter().copied().collect())
+                .collect(),
         },
-        vector: Vector { fitted: fit.x.iter().copied().collect(), start: fit.start.iter().copied().collect() },
+        vector: Vector {
+            fitted: fit.x.iter().copied().collect(),
+            start: fit.start.iter().copied().collect(),
+        },
         flags: fit.flags.clone(),
     }
 }
@@ -272,7 +283,8 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
 /// Serialize any wire document as pretty JSON with a final newline.
 pub fn to_pretty<T: Serialize>(doc: &T) -> String {
     // Serializing these plain structs cannot fail (no maps with non-string keys); NaN becomes null.
-    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    let mut s =
+        serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
     s.push('\n');
     s
 }

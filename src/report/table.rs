@@ -35,7 +35,14 @@ fn sig_for(value: f64, half: f64) -> usize {
 fn row(out: &mut String, label: &str, e: &Estimate) {
     let half = 0.5 * (e.ci95.1 - e.ci95.0);
     let sig = sig_for(e.value, half);
-    let _ = writeln!(out, "  {:<34} {:>16}  ± {:<10} {}", label, num(e.value, sig), num(half, 2), e.unit);
+    let _ = writeln!(
+        out,
+        "  {:<34} {:>16}  ± {:<10} {}",
+        label,
+        num(e.value, sig),
+        num(half, 2),
+        e.unit
+    );
 }
 
 fn qrow(out: &mut String, label: &str, q: &Quantity) {
@@ -54,7 +61,14 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
 /// The fit table printed by `swingfit fit`.
 pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String {
     let mut o = String::new();
-    let _ = writeln!(o, "Damping model: {}   ({} run{}, {} samples)", fit.damping, fit.runs.len(), if fit.runs.len() == 1 { "" } else { "s" }, fit.n_obs);
+    let _ = writeln!(
+        o,
+        "Damping model: {}   ({} run{}, {} samples)",
+        fit.damping,
+        fit.runs.len(),
+        if fit.runs.len() == 1 { "" } else { "s" },
+        fit.n_obs
+    );
     let _ = writeln!(o);
     let _ = writeln!(o, "Per unit inertia (value ± 95 % interval half-width)");
     row(&mut o, "natural frequency omega_n", &fit.omega_n);
@@ -62,7 +76,8 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
     }
     let period = 2.0 * std::f64::consts::PI / fit.omega_n.value;
-    let _ = writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
+    let _ =
+        writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
     if let Some(p) = physical {
         let _ = writeln!(o);
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
@@ -80,17 +95,28 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         if let Some(q) = &p.quadratic {
             qrow(&mut o, "quadratic c_q", q);
         }
-        let _ = writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
+        let _ =
+            writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
     }
     let _ = writeln!(o);
     let _ = writeln!(o, "Runs");
     let _ = writeln!(
         o,
         "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
-        "file", "samples", "equilib. deg", "release deg", "w0 deg/s", "RMS rad", "noise rad", "LB p"
+        "file",
+        "samples",
+        "equilib. deg",
+        "release deg",
+        "w0 deg/s",
+        "RMS rad",
+        "noise rad",
+        "LB p"
     );
     for r in &fit.runs {
-        let name = std::path::Path::new(&r.source).file_name().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| r.source.clone());
+        let name = std::path::Path::new(&r.source)
+            .file_name()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_else(|| r.source.clone());
         let _ = writeln!(
             o,
             "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
@@ -114,8 +140,14 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         num(fit.rss, 4),
         fit.dof
     );
-    let _ = writeln!(o, "     RMS residual {} rad; condition number {}", num(fit.rms_residual(), 3), num(fit.condition, 3));
-    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", fit.interval_method, num(fit.t95, 4));
+    let _ = writeln!(
+        o,
+        "     RMS residual {} rad; condition number {}",
+        num(fit.rms_residual(), 3),
+        num(fit.condition, 3)
+    );
+    let _ =
+        writeln!(o, "Intervals: {} (coverage factor t = {})", fit.interval_method, num(fit.t95, 4));
     for f in &fit.flags {
         let _ = writeln!(o, "Note: {f}");
     }
