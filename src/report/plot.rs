@@ -545,7 +545,8 @@ where
 
 static FONT: Once = Once::new();
 
-/// Register the embedded Noto Sans as "sans-serif" for the bitmap backend (once per process).
+/// Register the embedded Noto Sans as "sans-serif" (once per process): the bitmap backend draws
+/// glyphs with it and both backends measure text with it to lay out labels and legends.
 fn register_font() {
     FONT.call_once(|| {
         // Noto Sans Regular is a valid TrueType font shipped inside ttf-noto-sans; a failure here
@@ -557,6 +558,7 @@ fn register_font() {
 
 /// Draw `chart` as an SVG document.
 pub fn render_svg(chart: &Chart) -> Result<String, PlotError> {
+    register_font();
     let mut out = String::new();
     {
         let root = SVGBackend::with_string(&mut out, (WIDTH, HEIGHT)).into_drawing_area();
