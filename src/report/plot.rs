@@ -501,18 +501,18 @@ where
     let (x0, x1) = bounds(chart, |p| p.0);
     let (y0, y1) = bounds(chart, |p| p.1);
     let mut cc = ChartBuilder::on(&root)
-        .caption(&chart.title, ("sans-serif", 26))
+        .caption(&chart.title, ("sans-serif", 30))
         .margin(14)
         .margin_right(40)
-        .x_label_area_size(60)
-        .y_label_area_size(95)
+        .x_label_area_size(70)
+        .y_label_area_size(110)
         .build_cartesian_2d(x0..x1, y0..y1)
         .map_err(e)?;
     cc.configure_mesh()
         .x_desc(&chart.x_label)
         .y_desc(&chart.y_label)
-        .label_style(("sans-serif", 19))
-        .axis_desc_style(("sans-serif", 21))
+        .label_style(("sans-serif", 22))
+        .axis_desc_style(("sans-serif", 24))
         .light_line_style(RGBColor(235, 235, 235))
         .draw()
         .map_err(e)?;
@@ -533,7 +533,7 @@ where
         });
     }
     cc.configure_series_labels()
-        .label_font(("sans-serif", 18))
+        .label_font(("sans-serif", 22))
         .background_style(WHITE.mix(0.85))
         .border_style(RGBColor(160, 160, 160))
         .position(SeriesLabelPosition::UpperRight)

@@ -643,7 +643,8 @@ fn sheet_renders_in_headless_chromium() {
     let cmp = comparison(&run);
     let phys = physical();
     let dir = tmp();
-    let out = dir.path().join("sheet");
+    // SWINGFIT_KEEP_SHEET=DIR keeps the sheet for a look by eye (DIR must not exist).
+    let out = std::env::var_os("SWINGFIT_KEEP_SHEET").map_or_else(|| dir.path().join("sheet"), PathBuf::from);
     sheet::write_sheet(&out, false, &input(vec![run], &fit, Some(&phys), Some(&cmp)))
         .expect("sheet");
     let shot = std::env::var_os("SWINGFIT_KEEP_SCREENSHOT")
