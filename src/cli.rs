@@ -8,6 +8,7 @@
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
 mod check;
+mod compare;
 pub mod fit;
 pub mod sheet;
 mod simulate;
@@ -61,6 +62,8 @@ enum Command {
     Simulate(simulate::SimulateArgs),
     /// Fit the logs of one article and report its coefficients with intervals.
     Fit(fit::FitArgs),
+    /// Fit every candidate damping set and say which one explains the decay.
+    Compare(compare::CompareArgs),
     /// Fit an article and write its coefficient sheet (HTML, Markdown, JSON and plots) to a directory.
     Sheet(sheet::SheetArgs),
 }
@@ -120,6 +123,7 @@ where
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
+        Command::Compare(a) => compare::run(&a),
         Command::Sheet(a) => sheet::run(&a),
     };
     match result {

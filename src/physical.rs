@@ -37,13 +37,7 @@ pub struct Article {
 
 impl Article {
     /// Validated article inputs.
-    pub fn new(
-        mass: f64,
-        mass_std: f64,
-        d: f64,
-        d_std: f64,
-        gravity: GravitySpec,
-    ) -> Result<Article, String> {
+    pub fn new(mass: f64, mass_std: f64, d: f64, d_std: f64, gravity: GravitySpec) -> Result<Article, String> {
         let _ = (mass, mass_std, d, d_std, gravity);
         todo!("issue 4")
     }

@@ -58,8 +58,7 @@ pub struct EstimatorArgs {
 impl EstimatorArgs {
     /// The library's fit options.
     pub fn options(&self) -> Result<FitOptions, Failure> {
-        let damping = DampingSet::parse(&self.damping)
-            .map_err(|e| Failure::input(format!("--damping: {e}")))?;
+        let damping = DampingSet::parse(&self.damping).map_err(|e| Failure::input(format!("--damping: {e}")))?;
         Ok(FitOptions {
             damping,
             bootstrap: (self.bootstrap > 0).then_some(self.bootstrap),
@@ -116,29 +115,22 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
 pub fn article(args: &ArticleArgs) -> Result<Option<physical::Article>, Failure> {
     match (args.mass, args.pivot_to_cg) {
         (None, None) => Ok(None),
-        (Some(_), None) | (None, Some(_)) => Err(Failure::input(
-            "--mass and --pivot-to-cg go together: give both for physical coefficients",
-        )),
+        (Some(_), None) | (None, Some(_)) => {
+            Err(Failure::input("--mass and --pivot-to-cg go together: give both for physical coefficients"))
+        }
         (Some(m), Some(d)) => {
             let gravity = match (args.gravity, args.latitude) {
                 (Some(g), _) => physical::GravitySpec::Given { value: g, std: args.gravity_std },
-                (None, Some(lat)) => {
-                    physical::GravitySpec::Normal { latitude_deg: lat, elevation_m: args.elevation }
-                }
+                (None, Some(lat)) => physical::GravitySpec::Normal { latitude_deg: lat, elevation_m: args.elevation },
                 (None, None) => physical::GravitySpec::Standard,
             };
-            physical::Article::new(m, args.mass_std, d, args.pivot_to_cg_std, gravity)
-                .map(Some)
-                .map_err(Failure::input)
+            physical::Article::new(m, args.mass_std, d, args.pivot_to_cg_std, gravity).map(Some).map_err(Failure::input)
         }
     }
 }
 
 /// Physical coefficients of a fit.
-pub fn physical_of(
-    fit: &FitOutcome,
-    article: Option<&physical::Article>,
-) -> Result<Option<PhysicalResult>, Failure> {
+pub fn physical_of(fit: &FitOutcome, article: Option<&physical::Article>) -> Result<Option<PhysicalResult>, Failure> {
     article.map(|a| physical::propagate(a, fit).map_err(Failure::rejected)).transpose()
 }
 
@@ -146,13 +138,7 @@ pub fn physical_of(
 pub fn run(args: &FitArgs) -> CmdResult {
     let options = args.estimator.options()?;
     if let Some(p) = &args.plot {
-        let ext = p.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
-        if !matches!(ext.as_deref(), Some("svg" | "png")) {
-            return Err(Failure::input(format!(
-                "--plot {}: expected a file name ending in .svg or .png",
-                p.display()
-            )));
-        }
+        plot::check_chart_path(p).map_err(Failure::input)?;
     }
     let article = article(&args.article)?;
     let logs = load_all(&args.logs, &args.loader)?;
@@ -169,12 +155,7 @@ pub fn run(args: &FitArgs) -> CmdResult {
             .iter()
             .zip(&outcome.runs)
             .zip(&names)
-            .map(|((l, r), n)| plot::RunView {
-                name: n,
-                times: l.times(),
-                angles: l.angles(),
-                fit: r,
-            })
+            .map(|((l, r), n)| plot::RunView { name: n, times: l.times(), angles: l.angles(), fit: r })
             .collect();
         let chart = plot::fit_overlay(&runs, outcome.omega_n.value, "fit");
         plot::write_chart(&chart, path).map_err(Failure::input)?;

@@ -615,6 +615,19 @@ pub fn fit_overlay(runs: &[RunView<'_>], omega_n: f64, stem: &str) -> Chart {
     }
 }
 
+/// Refuse a plot file name that ends neither in `.svg` nor in `.png` (before any work is done).
+pub fn check_chart_path(path: &Path) -> Result<(), PlotError> {
+    let ext = path.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
+    if matches!(ext.as_deref(), Some("svg" | "png")) {
+        Ok(())
+    } else {
+        Err(PlotError {
+            stem: "fit".into(),
+            what: format!("{}: expected a file name ending in .svg or .png", path.display()),
+        })
+    }
+}
+
 /// Write `chart` to `path` as SVG or PNG by its extension, whole or not at all (drawn to a
 /// temporary file beside `path`, then renamed).
 pub fn write_chart(chart: &Chart, path: &Path) -> Result<(), PlotError> {

@@ -38,7 +38,7 @@ use serde::Serialize;
 use sha2::{Digest, Sha256};
 
 use crate::fit::FitOutcome;
-use crate::fit::compare::{Comparison, EnvelopeLaw};
+use crate::fit::compare::Comparison;
 use crate::physical::PhysicalResult;
 use crate::report::json;
 use crate::report::plot::{self, Chart, RunView};
@@ -520,13 +520,6 @@ pub mod wire {
     }
 }
 
-fn law_name(l: EnvelopeLaw) -> &'static str {
-    match l {
-        EnvelopeLaw::Exponential => "exponential (viscous-like)",
-        EnvelopeLaw::Linear => "linear (Coulomb-like)",
-        EnvelopeLaw::Hyperbolic => "hyperbolic (quadratic-like)",
-    }
-}
 
 fn duration(r: &RunView<'_>) -> f64 {
     match (r.times.first(), r.times.last()) {
@@ -575,7 +568,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             verdict: c.verdict.clone(),
             explained: c.explained,
             best: c.best.map(|b| b.to_string()),
-            envelope_law: law_name(c.envelope_law),
+            envelope_law: c.envelope_law().describe(),
             candidates: c
                 .candidates
                 .iter()
@@ -600,7 +593,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             samples: fit.n_obs,
             condition_number: fit.condition,
             iterations_total: fit.iterations_total,
-            interval_method: fit.interval_method.to_string(),
+            interval_method: crate::report::table::interval_method_text(&fit.interval_method),
             runs: fit
                 .runs
                 .iter()

@@ -35,14 +35,7 @@ fn sig_for(value: f64, half: f64) -> usize {
 fn row(out: &mut String, label: &str, e: &Estimate) {
     let half = 0.5 * (e.ci95.1 - e.ci95.0);
     let sig = sig_for(e.value, half);
-    let _ = writeln!(
-        out,
-        "  {:<34} {:>16}  ± {:<10} {}",
-        label,
-        num(e.value, sig),
-        num(half, 2),
-        e.unit
-    );
+    let _ = writeln!(out, "  {:<34} {:>16}  ± {:<10} {}", label, num(e.value, sig), num(half, 2), e.unit);
 }
 
 fn qrow(out: &mut String, label: &str, q: &Quantity) {
@@ -61,14 +54,7 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
 /// The fit table printed by `swingfit fit`.
 pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String {
     let mut o = String::new();
-    let _ = writeln!(
-        o,
-        "Damping model: {}   ({} run{}, {} samples)",
-        fit.damping,
-        fit.runs.len(),
-        if fit.runs.len() == 1 { "" } else { "s" },
-        fit.n_obs
-    );
+    let _ = writeln!(o, "Damping model: {}   ({} run{}, {} samples)", fit.damping, fit.runs.len(), if fit.runs.len() == 1 { "" } else { "s" }, fit.n_obs);
     let _ = writeln!(o);
     let _ = writeln!(o, "Per unit inertia (value ± 95 % interval half-width)");
     row(&mut o, "natural frequency omega_n", &fit.omega_n);
@@ -76,8 +62,7 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
     }
     let period = 2.0 * std::f64::consts::PI / fit.omega_n.value;
-    let _ =
-        writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
+    let _ = writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
     if let Some(p) = physical {
         let _ = writeln!(o);
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
@@ -95,28 +80,17 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         if let Some(q) = &p.quadratic {
             qrow(&mut o, "quadratic c_q", q);
         }
-        let _ =
-            writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
+        let _ = writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
     }
     let _ = writeln!(o);
     let _ = writeln!(o, "Runs");
     let _ = writeln!(
         o,
         "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
-        "file",
-        "samples",
-        "equilib. deg",
-        "release deg",
-        "w0 deg/s",
-        "RMS rad",
-        "noise rad",
-        "LB p"
+        "file", "samples", "equilib. deg", "release deg", "w0 deg/s", "RMS rad", "noise rad", "LB p"
     );
     for r in &fit.runs {
-        let name = std::path::Path::new(&r.source)
-            .file_name()
-            .map(|s| s.to_string_lossy().into_owned())
-            .unwrap_or_else(|| r.source.clone());
+        let name = std::path::Path::new(&r.source).file_name().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| r.source.clone());
         let _ = writeln!(
             o,
             "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
@@ -140,16 +114,62 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         num(fit.rss, 4),
         fit.dof
     );
-    let _ = writeln!(
-        o,
-        "     RMS residual {} rad; condition number {}",
-        num(fit.rms_residual(), 3),
-        num(fit.condition, 3)
-    );
-    let _ =
-        writeln!(o, "Intervals: {} (coverage factor t = {})", fit.interval_method, num(fit.t95, 4));
+    let _ = writeln!(o, "     RMS residual {} rad; condition number {}", num(fit.rms_residual(), 3), num(fit.condition, 3));
+    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", interval_method_text(&fit.interval_method), num(fit.t95, 4));
     for f in &fit.flags {
         let _ = writeln!(o, "Note: {f}");
     }
     o
+}
+
+/// The comparison table printed by `swingfit compare`.
+pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "Candidates (ranked; BIC = n ln(RSS/n) + p ln n, lower is better)");
+    let _ = writeln!(
+        o,
+        "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+        "damping", "status", "RMS rad", "AIC", "BIC", "x noise", "LB p", "sig.", "explains"
+    );
+    for e in &c.candidates {
+        if let Err(err) = &e.fit {
+            let _ = writeln!(o, "  {:<28} {:>7}  {}", e.damping.to_string(), "failed", err);
+            continue;
+        }
+        let _ = writeln!(
+            o,
+            "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+            e.damping.to_string(),
+            "ok",
+            num(e.rms_residual, 3),
+            format!("{:.1}", e.aic),
+            format!("{:.1}", e.bic),
+            format!("{:.2}", e.noise_ratio),
+            num(e.ljung_box_p, 2),
+            if e.all_significant { "yes" } else { "no" },
+            if e.explains_decay { "yes" } else { "no" }
+        );
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Envelope laws on the measured half-cycle peaks (RMS misfit in amplitude)");
+    for (law, rms) in &c.envelope.laws {
+        let _ = writeln!(o, "  {:<12} {} rad", law.name(), num(*rms, 3));
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Verdict: {}", c.verdict);
+    o
+}
+
+/// The interval method in words.
+pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> String {
+    use crate::fit::uncertainty::IntervalMethod as M;
+    match m {
+        M::Plain => "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into(),
+        M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
+            "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
+        ),
+        M::Bootstrap { replicates, block_length, seed } => format!(
+            "moving-block bootstrap, {replicates} refits, blocks of {block_length} samples, seed {seed} (never narrower than the analytic interval)"
+        ),
+    }
 }

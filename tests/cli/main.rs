@@ -1,6 +1,8 @@
 //! End-to-end tests: each module runs the real `swingfit` binary on files in a temp dir.
 
 mod batch;
+#[path = "../browser/chromium.rs"]
+mod chromium;
 mod check;
 mod common;
 mod compare;

@@ -11,7 +11,9 @@ use std::time::{Duration, UNIX_EPOCH};
 use approx::assert_relative_eq;
 use nalgebra::{DMatrix, DVector};
 use swingfit::article::{self, DampingChoice};
-use swingfit::fit::compare::{CandidateEvidence, Comparison, EnvelopeLaw, PeriodPoint};
+use swingfit::fit::compare::{
+    CandidateEvidence, Comparison, EnvelopeFits, EnvelopeLaw, PeriodPoint,
+};
 use swingfit::fit::lm::Convergence;
 use swingfit::fit::uncertainty::IntervalMethod;
 use swingfit::fit::{Estimate, FitError, FitOutcome, RunFit};
@@ -140,6 +142,7 @@ fn comparison(run: &RunView<'_>) -> Comparison {
         bic: -990.0 + rms * 1e3,
         ljung_box_p: if ok { 0.4 } else { 0.0 },
         rms_residual: rms,
+        noise_ratio: rms / 1.5e-5,
         all_significant: ok,
         explains_decay: ok,
         added_terms: vec![],
@@ -154,7 +157,10 @@ fn comparison(run: &RunView<'_>) -> Comparison {
         explained: true,
         verdict: "viscous explains the decay (synthetic)".into(),
         measured_peaks: vec![peaks(&measured)],
-        envelope_law: EnvelopeLaw::Exponential,
+        ties: vec![],
+        envelope: EnvelopeFits {
+            laws: vec![(EnvelopeLaw::Exponential, 1e-5), (EnvelopeLaw::Linear, 3e-3)],
+        },
         period_points: vec![vec![PeriodPoint { amplitude: 0.5, period: 0.967 }]],
         period_curve: vec![(0.1, 0.9668), (0.5, 0.9820)],
     }
@@ -564,76 +570,6 @@ fn missing_log_names_its_line() {
     assert!(e.what.contains("missing.csv") && e.what.contains("not found"), "{e}");
 }
 
-/// Run headless chromium on `url`, dumping the DOM; returns (dom, stderr).
-fn chromium(url: &str, screenshot: &Path) -> (String, String) {
-    let bin = Path::new("/usr/bin/chromium");
-    assert!(
-        bin.exists(),
-        "/usr/bin/chromium is missing: run the chromium install step of .ci/run (apt-get install -y chromium)"
-    );
-    let profile = tmp();
-    let common = [
-        "--headless",
-        "--no-sandbox",
-        "--disable-gpu",
-        "--disable-quic",
-        "--no-first-run",
-        "--disable-background-networking",
-        "--disable-component-update",
-        "--disable-sync",
-        "--enable-logging=stderr",
-        "--v=0",
-        "--window-size=1240,1754",
-    ];
-    let run = |extra: &str| {
-        std::process::Command::new(bin)
-            .args(common)
-            .arg(format!(
-                "--user-data-dir={}",
-                profile.path().join(extra.len().to_string()).display()
-            ))
-            .arg(extra)
-            .arg(url)
-            .output()
-            .expect("chromium runs")
-    };
-    let shot = run(&format!("--screenshot={}", screenshot.display()));
-    assert!(
-        shot.status.success(),
-        "chromium screenshot failed: {}",
-        String::from_utf8_lossy(&shot.stderr)
-    );
-    let dom = run("--dump-dom");
-    assert!(
-        dom.status.success(),
-        "chromium dump-dom failed: {}",
-        String::from_utf8_lossy(&dom.stderr)
-    );
-    let stderr = format!(
-        "{}{}",
-        String::from_utf8_lossy(&shot.stderr),
-        String::from_utf8_lossy(&dom.stderr)
-    );
-    (String::from_utf8_lossy(&dom.stdout).into_owned(), stderr)
-}
-
-/// Check a sheet directory in the browser: renders, no console messages, every plot and the
-/// coefficient table present, a full-page screenshot written.
-pub fn check_in_browser(sheet_dir: &Path, screenshot: &Path, n_plots: usize) {
-    let url = format!("file://{}", sheet_dir.join("sheet.html").display());
-    let (dom, stderr) = chromium(&url, screenshot);
-    let console: Vec<&str> =
-        stderr.lines().filter(|l| l.contains("CONSOLE") || l.contains("Uncaught")).collect();
-    assert!(console.is_empty(), "console messages: {console:?}");
-    assert!(dom.contains("<table class=\"coefficients\">"), "coefficient table rendered");
-    assert_eq!(dom.matches("<figure id=\"plot-").count(), n_plots);
-    assert_eq!(dom.matches("<svg").count(), n_plots);
-    assert!(dom.contains("id=\"caution\"") && dom.contains("id=\"provenance\""));
-    let png = std::fs::read(screenshot).expect("screenshot written");
-    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
-    assert!(png.len() > 20_000, "screenshot has content ({} bytes)", png.len());
-}
-
 #[test]
 fn sheet_renders_in_headless_chromium() {
     let s = synthetic(20.0, 0.5);
@@ -644,10 +580,11 @@ fn sheet_renders_in_headless_chromium() {
     let phys = physical();
     let dir = tmp();
     // SWINGFIT_KEEP_SHEET=DIR keeps the sheet for a look by eye (DIR must not exist).
-    let out = std::env::var_os("SWINGFIT_KEEP_SHEET").map_or_else(|| dir.path().join("sheet"), PathBuf::from);
+    let out = std::env::var_os("SWINGFIT_KEEP_SHEET")
+        .map_or_else(|| dir.path().join("sheet"), PathBuf::from);
     sheet::write_sheet(&out, false, &input(vec![run], &fit, Some(&phys), Some(&cmp)))
         .expect("sheet");
     let shot = std::env::var_os("SWINGFIT_KEEP_SCREENSHOT")
         .map_or_else(|| dir.path().join("shot.png"), PathBuf::from);
-    check_in_browser(&out, &shot, 7);
+    crate::chromium::check_in_browser(&out, &shot, 7);
 }
