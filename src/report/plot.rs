@@ -77,6 +77,9 @@ pub struct PlotError {
     pub what: String,
 }
 
+/// A list of (x, y) points.
+pub type Points = Vec<(f64, f64)>;
+
 /// One measured run with its fitted model, as the plot builders take it.
 #[derive(Clone, Copy, Debug)]
 pub struct RunView<'a> {
@@ -90,6 +93,13 @@ pub struct RunView<'a> {
     pub fit: &'a RunFit,
 }
 
+impl<'a> RunView<'a> {
+    /// A view of one run.
+    pub fn new(name: &'a str, times: &'a [f64], angles: &'a [f64], fit: &'a RunFit) -> RunView<'a> {
+        RunView { name, times, angles, fit }
+    }
+}
+
 /// Min/max decimation: split the x range into `columns` equal columns and keep, in each, the
 /// point of least and of greatest y (in x order). Peaks and troughs survive at any zoom; the
 /// result has at most 2·`columns` points. `points` must be sorted by x.
@@ -99,7 +109,7 @@ pub fn decimate(points: &[(f64, f64)], columns: usize) -> Vec<(f64, f64)> {
     }
     let (x0, x1) = (points[0].0, points[points.len() - 1].0);
     let width = (x1 - x0) / columns as f64;
-    if !(width > 0.0) {
+    if width.is_nan() || width <= 0.0 {
         return vec![points[0], points[points.len() - 1]];
     }
     let mut out = Vec::with_capacity(2 * columns);
@@ -145,13 +155,13 @@ pub fn thin(points: &[(f64, f64)], max: usize) -> Vec<(f64, f64)> {
 /// Half-cycle peaks of a run: the model's deflection θ−θeq changes sign at the half-cycle
 /// boundaries; in each half cycle the measured and the model extreme are taken.
 /// Returns (measured, model) lists of (time s, |deflection| rad).
-pub fn half_cycle_peaks(run: &RunView<'_>) -> (Vec<(f64, f64)>, Vec<(f64, f64)>) {
+pub fn half_cycle_peaks(run: &RunView<'_>) -> (Points, Points) {
     let eq = run.fit.equilibrium.value;
     let model = &run.fit.model_angle;
     let n = run.times.len().min(run.angles.len()).min(model.len());
     let mut bounds = vec![0];
     for i in 1..n {
-        if (model[i - 1] - eq).signum() != (model[i] - eq).signum() && model[i] != eq {
+        if (model[i - 1] - eq).signum() != (model[i] - eq).signum() && (model[i] - eq).abs() > 0.0 {
             bounds.push(i);
         }
     }
@@ -189,7 +199,7 @@ fn upward_crossings(t: &[f64], v: &[f64], eq: f64) -> Vec<f64> {
 /// model, its duration and the mean of the half-cycle peaks inside it. The measured period uses
 /// the measured crossing nearest each model crossing (within an eighth of a period).
 /// Returns (measured, model) lists of (amplitude rad, period s).
-pub fn period_points(run: &RunView<'_>) -> (Vec<(f64, f64)>, Vec<(f64, f64)>) {
+pub fn period_points(run: &RunView<'_>) -> (Points, Points) {
     let eq = run.fit.equilibrium.value;
     let model_up = upward_crossings(run.times, &run.fit.model_angle, eq);
     let measured_up = upward_crossings(run.times, run.angles, eq);

@@ -520,7 +520,6 @@ pub mod wire {
     }
 }
 
-
 fn duration(r: &RunView<'_>) -> f64 {
     match (r.times.first(), r.times.last()) {
         (Some(a), Some(b)) => b - a,

@@ -1,9 +1,9 @@
 //! End-to-end tests: each module runs the real `swingfit` binary on files in a temp dir.
 
 mod batch;
+mod check;
 #[path = "../browser/chromium.rs"]
 mod chromium;
-mod check;
 mod common;
 mod compare;
 mod fit;
