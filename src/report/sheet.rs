@@ -785,6 +785,7 @@ h2 { font-size: 12.5pt; margin: 6mm 0 2mm; border-bottom: 1px solid #999; paddin
 table { border-collapse: collapse; width: 100%; margin: 1mm 0 3mm; font-size: 9.5pt; }
 th, td { border: 1px solid #bbb; padding: 1mm 1.8mm; text-align: left; vertical-align: top; }
 th { background: #eee; }
+tr.why td { font-size: 8.5pt; color: #444; border-top: none; padding-left: 6mm; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 dl.ident { display: grid; grid-template-columns: max-content 1fr; gap: 0.6mm 4mm; margin: 0; }
 dl.ident dt { font-weight: bold; }
@@ -833,11 +834,15 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
         esc(&a.name),
         esc(&a.id)
     );
+    let id_tag = if a.id == a.name {
+        String::new()
+    } else {
+        format!(" <span class=\"mono\">{}</span>", esc(&a.id))
+    };
     let _ = writeln!(
         h,
-        "<header id=\"identity\">\n<h1>Coefficient sheet: {} <span class=\"mono\">{}</span></h1>",
-        esc(&a.name),
-        esc(&a.id)
+        "<header id=\"identity\">\n<h1>Coefficient sheet: {}{id_tag}</h1>",
+        esc(&a.name)
     );
     if !a.description.is_empty() {
         let _ = writeln!(h, "<p>{}</p>", esc(&a.description));
@@ -933,9 +938,9 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
                 let _ = writeln!(
                     h,
                     "<tr><td>{}{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td></tr>",
-                    esc(&e.damping),
+                    esc(&e.damping).replace('+', "+<wbr>"),
                     if chosen { " <b>(chosen)</b>" } else { "" },
-                    e.error.as_ref().map_or("yes".to_string(), |m| format!("no: {}", esc(m))),
+                    yes(e.converged),
                     g3(e.rms_residual),
                     g3(e.aic),
                     g3(e.bic),
@@ -943,6 +948,14 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
                     yes(e.all_significant),
                     yes(e.explains_decay)
                 );
+                if let Some(m) = &e.error {
+                    let _ = writeln!(
+                        h,
+                        "<tr class=\"why\"><td colspan=\"8\">{}: {}</td></tr>",
+                        esc(&e.damping),
+                        esc(m)
+                    );
+                }
             }
             let _ = writeln!(h, "</tbody>\n</table>");
         }
