@@ -20,9 +20,9 @@ use crate::model::Term;
 use crate::report::atomic::write_atomic;
 
 /// Relative tolerance of the default Dormand–Prince integration.
-pub const DP_RTOL: f64 = 1e-10;
+pub const DP_RTOL: f64 = 1e-12;
 /// Absolute tolerance of the default Dormand–Prince integration [rad, rad/s].
-pub const DP_ATOL: f64 = 1e-12;
+pub const DP_ATOL: f64 = 1e-14;
 /// RK4 sub-step as a fraction of the natural period's radian, 1/ωn: 0.005/ωn (≈ 1250 steps per
 /// small-amplitude period).
 pub const RK4_STEP_PER_RADIAN: f64 = 0.005;
@@ -32,7 +32,7 @@ pub const MAX_SAMPLES: f64 = 50_000_000.0;
 /// The integrator `simulate` uses.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum, Default)]
 pub enum Integrator {
-    /// Adaptive Dormand–Prince 5(4), rtol 1e-10, atol 1e-12.
+    /// Adaptive Dormand–Prince 5(4), rtol 1e-12, atol 1e-14.
     #[default]
     Dp54,
     /// Classical RK4 with sub-steps of at most 0.005/ωn seconds.
@@ -85,8 +85,8 @@ pub struct SimulateArgs {
     /// Unit of the written angle column.
     #[arg(long, value_enum, default_value_t = AngleUnitArg::Rad)]
     pub angle_unit: AngleUnitArg,
-    /// Encoder counts per revolution (edges; quadrature: 4 × lines): written angles are rounded
-    /// to whole counts; also the scale of a counts log read by --times.
+    /// Encoder counts per revolution (edges; quadrature: 4 × lines): the count step of
+    /// --angle-unit counts; also the scale of a counts log read by --times.
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub counts_per_rev: Option<f64>,
     /// Standard deviation of Gaussian noise added to the angle, before quantisation [deg].
@@ -217,9 +217,11 @@ pub fn run(args: &SimulateArgs) -> CmdResult {
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display()))),
         None => {
             let mut out = std::io::stdout().lock();
-            out.write_all(&bytes)
-                .and_then(|()| out.flush())
-                .map_err(|e| Failure::input(format!("standard output: {e}")))
+            match out.write_all(&bytes).and_then(|()| out.flush()) {
+                // A reader that stops early (`| head`) is not an error.
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+                r => r.map_err(|e| Failure::input(format!("standard output: {e}"))),
+            }
         }
     }
 }

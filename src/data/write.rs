@@ -60,8 +60,8 @@ impl OutputUnit {
 pub struct LogFormat {
     /// Unit of the angle column.
     pub unit: OutputUnit,
-    /// Encoder counts per revolution (edges): when set, angles are rounded to the count step
-    /// 2π/N whatever the output unit; required for [`OutputUnit::Counts`].
+    /// Encoder counts per revolution (edges): the count step 2π/N that [`OutputUnit::Counts`]
+    /// rounds to; required for counts, checked but unused for radians and degrees.
     pub counts_per_rev: Option<f64>,
     /// Standard deviation of the Gaussian noise added before quantisation [rad]; 0 for none.
     pub noise_sd_rad: f64,
@@ -166,14 +166,80 @@ pub fn render(times: &[f64], angles: &[f64], format: &LogFormat) -> Result<Vec<u
         // Rust's `{}` for f64 writes the shortest decimal that parses back to the same value.
         let _ = match (format.unit, step) {
             (OutputUnit::Counts, Some(q)) => writeln!(out, "{t},{}", to_counts(a, q)),
-            (OutputUnit::Rad, Some(q)) => writeln!(out, "{t},{}", to_counts(a, q) * q),
-            (OutputUnit::Deg, Some(q)) => {
-                writeln!(out, "{t},{}", (to_counts(a, q) * q).to_degrees())
-            }
-            (OutputUnit::Deg, None) => writeln!(out, "{t},{}", a.to_degrees()),
-            // Counts without a step was refused above; radians unquantised.
-            (_, None) => writeln!(out, "{t},{a}"),
+            (OutputUnit::Deg, _) => writeln!(out, "{t},{}", a.to_degrees()),
+            // Radians; counts without a step were refused above.
+            (_, _) => writeln!(out, "{t},{a}"),
         };
     }
     Ok(out.into_bytes())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn lines(bytes: Vec<u8>) -> Vec<String> {
+        String::from_utf8(bytes).expect("utf-8").lines().map(str::to_string).collect()
+    }
+
+    #[test]
+    fn radians_round_trip_exactly() {
+        let t = [0.0, 0.1, 0.30000000000000004];
+        let a = [1.0 / 3.0, -2.5e-17, std::f64::consts::PI];
+        let f = LogFormat { comments: vec!["a\nb".into()], ..LogFormat::default() };
+        let l = lines(render(&t, &a, &f).expect("render"));
+        assert_eq!(l[0], "# a b");
+        assert_eq!(l[1], "time_s,angle_rad");
+        for (i, row) in l[2..].iter().enumerate() {
+            let (ts, as_) = row.split_once(',').expect("two columns");
+            assert_eq!(ts.parse::<f64>().expect("t").to_bits(), t[i].to_bits());
+            assert_eq!(as_.parse::<f64>().expect("a").to_bits(), a[i].to_bits());
+        }
+    }
+
+    #[test]
+    fn counts_round_to_nearest_and_never_write_minus_zero() {
+        // 10000 counts/rev: step 0.036° (CHECKS.md section 9 table, [common practice]).
+        let q = count_step(10000.0).expect("step");
+        assert!((q.to_degrees() - 0.036).abs() <= 1e-15);
+        let a = [0.4 * q, -0.4 * q, 1.6 * q, -2.5 * q];
+        let f = LogFormat {
+            unit: OutputUnit::Counts,
+            counts_per_rev: Some(10000.0),
+            ..LogFormat::default()
+        };
+        let l = lines(render(&[0.0, 1.0, 2.0, 3.0], &a, &f).expect("render"));
+        assert_eq!(l[0], "time_s,counts");
+        let c: Vec<&str> = l[1..].iter().map(|r| r.split_once(',').expect("row").1).collect();
+        assert_eq!(c, ["0", "0", "2", "-3"]);
+    }
+
+    #[test]
+    fn refuses_bad_settings() {
+        let f = LogFormat { unit: OutputUnit::Counts, ..LogFormat::default() };
+        assert_eq!(render(&[0.0], &[0.0], &f), Err(WriteError::MissingCountsPerRev));
+        let f = LogFormat { counts_per_rev: Some(-1.0), ..LogFormat::default() };
+        assert_eq!(render(&[0.0], &[0.0], &f), Err(WriteError::BadCountsPerRev(-1.0)));
+        let f = LogFormat { noise_sd_rad: f64::INFINITY, ..LogFormat::default() };
+        assert_eq!(render(&[0.0], &[0.0], &f), Err(WriteError::BadNoise(f64::INFINITY)));
+        let f = LogFormat::default();
+        assert!(matches!(
+            render(&[0.0], &[f64::NAN], &f),
+            Err(WriteError::NonFinite { index: 0, .. })
+        ));
+        assert!(matches!(render(&[0.0], &[], &f), Err(WriteError::LengthMismatch { .. })));
+    }
+
+    #[test]
+    fn noise_is_seeded_and_of_the_requested_size() {
+        let mut a = vec![0.0; 20000];
+        add_noise(&mut a, 0.01, 5).expect("noise");
+        let mut b = vec![0.0; 20000];
+        add_noise(&mut b, 0.01, 5).expect("noise");
+        assert_eq!(a, b);
+        let n = a.len() as f64;
+        let sd = (a.iter().map(|x| x * x).sum::<f64>() / n).sqrt();
+        // Relative standard error of a std from 20000 samples ≈ 0.5 %; allow 3 %.
+        assert!((sd - 0.01).abs() <= 3e-4, "sd {sd}");
+    }
 }

@@ -47,3 +47,34 @@ fn create_temp(dir: &Path, name: &str) -> io::Result<(PathBuf, File)> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn replaces_whole_file_and_leaves_no_temporary() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let p = dir.path().join("log.csv");
+        write_atomic(&p, b"first\n").expect("write");
+        write_atomic(&p, b"second\n").expect("rewrite");
+        assert_eq!(fs::read(&p).expect("read"), b"second\n");
+        assert_eq!(fs::read_dir(dir.path()).expect("dir").count(), 1);
+    }
+
+    #[test]
+    fn missing_directory_fails_and_writes_nothing() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let p = dir.path().join("no-such-dir").join("log.csv");
+        assert!(write_atomic(&p, b"x").is_err());
+        assert_eq!(fs::read_dir(dir.path()).expect("dir").count(), 0);
+    }
+
+    #[test]
+    fn refuses_a_path_without_file_name() {
+        assert_eq!(
+            write_atomic(Path::new("/"), b"x").map_err(|e| e.kind()),
+            Err(io::ErrorKind::InvalidInput)
+        );
+    }
+}

@@ -11,3 +11,4 @@ mod physical;
 mod reference;
 mod report;
 mod stats;
+mod synth;
