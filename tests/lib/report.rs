@@ -102,6 +102,7 @@ fn outcome(runs: Vec<RunFit>) -> FitOutcome {
         iterations_total: 17,
         rss,
         n_obs,
+        n_independent: n_obs,
         dof: n_obs - p,
         convergence: Convergence::Cost,
         interval_method: IntervalMethod::Plain,
