@@ -10,6 +10,7 @@
 mod check;
 mod compare;
 pub mod fit;
+pub mod sheet;
 mod simulate;
 
 use std::ffi::OsString;
@@ -63,6 +64,8 @@ enum Command {
     Fit(fit::FitArgs),
     /// Fit every candidate damping set and say which one explains the decay.
     Compare(compare::CompareArgs),
+    /// Fit an article and write its coefficient sheet (HTML, Markdown, JSON and plots) to a directory.
+    Sheet(sheet::SheetArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -121,6 +124,7 @@ where
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
         Command::Compare(a) => compare::run(&a),
+        Command::Sheet(a) => sheet::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -10,7 +10,7 @@ use crate::data::AngleLog;
 use crate::fit::{self, FitOptions, FitOutcome};
 use crate::model::DampingSet;
 use crate::physical::{self, ArticleInputs, Gravity, Measured, PhysicalCoefficients};
-use crate::report::{atomic, json, table};
+use crate::report::{atomic, json, plot, table};
 
 /// The article's mass properties and the local gravity, for physical coefficients.
 #[derive(Args, Debug, Clone, Default)]
@@ -86,6 +86,9 @@ pub struct FitArgs {
     /// Write the fit as JSON (schema swingfit.fit.v1) to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
+    /// Draw the measured angle with the fitted model to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE.svg|FILE.png")]
+    pub plot: Option<PathBuf>,
 }
 
 /// Load every log, or fail on the first bad one.
@@ -144,6 +147,9 @@ pub fn physical_of(fit: &FitOutcome, article: Option<&ArticleInputs>) -> Result<
 /// Run `fit`.
 pub fn run(args: &FitArgs) -> CmdResult {
     let options = args.estimator.options()?;
+    if let Some(p) = &args.plot {
+        plot::check_chart_path(p).map_err(Failure::input)?;
+    }
     let article = article(&args.article)?;
     let logs = load_all(&args.logs, &args.loader)?;
     let outcome = fit::fit(&logs, &options).map_err(Failure::rejected)?;
@@ -152,6 +158,17 @@ pub fn run(args: &FitArgs) -> CmdResult {
         let doc = json::to_pretty(&json::fit_doc(&outcome, physical.as_ref()));
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
+    }
+    if let Some(path) = &args.plot {
+        let names: Vec<String> = logs.iter().map(|l| l.source().to_string()).collect();
+        let runs: Vec<plot::RunView<'_>> = logs
+            .iter()
+            .zip(&outcome.runs)
+            .zip(&names)
+            .map(|((l, r), n)| plot::RunView::new(n, l.times(), l.angles(), r))
+            .collect();
+        let chart = plot::fit_overlay(&runs, outcome.omega_n.value, "fit");
+        plot::write_chart(&chart, path).map_err(Failure::input)?;
     }
     print!("{}", table::fit_table(&outcome, physical.as_ref()));
     Ok(())
