@@ -41,7 +41,11 @@ impl Failure {
 pub type CmdResult = Result<(), Failure>;
 
 #[derive(Parser, Debug)]
-#[command(name = "swingfit", version, about = "Moment of inertia and damping of a swinging test article, from its angle logs")]
+#[command(
+    name = "swingfit",
+    version,
+    about = "Moment of inertia and damping of a swinging test article, from its angle logs"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,

@@ -28,7 +28,11 @@ pub struct AngleLog {
 impl AngleLog {
     /// Build a log from samples already in SI units, with the same checks as the loader
     /// (finite, strictly increasing, long enough). `source` names it in messages.
-    pub fn from_samples(source: &str, times: Vec<f64>, angles: Vec<f64>) -> Result<AngleLog, LoadError> {
+    pub fn from_samples(
+        source: &str,
+        times: Vec<f64>,
+        angles: Vec<f64>,
+    ) -> Result<AngleLog, LoadError> {
         let _ = (source, times, angles);
         todo!("issue 2")
     }

@@ -14,9 +14,9 @@
 
 pub mod cli;
 pub mod data;
+pub mod fit;
 pub mod integrate;
 pub mod model;
-pub mod fit;
 pub mod physical;
 pub mod report;
 pub mod stats;

@@ -103,7 +103,11 @@ pub enum LmError {
 }
 
 /// Minimise from `x0`.
-pub fn minimize<P: LeastSquares>(problem: &P, x0: DVector<f64>, settings: &LmSettings) -> Result<LmSolution, LmError> {
+pub fn minimize<P: LeastSquares>(
+    problem: &P,
+    x0: DVector<f64>,
+    settings: &LmSettings,
+) -> Result<LmSolution, LmError> {
     let _ = (problem, x0, settings);
     todo!("issue 4")
 }
