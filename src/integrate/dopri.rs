@@ -196,12 +196,12 @@ pub(crate) fn run(
         let span = t_end - t;
         let last = h >= span;
         let hs = if last { span } else { h };
-        if !(hs > 1e-14 * t.abs().max(1.0)) {
+        if hs.is_nan() || hs <= 1e-14 * t.abs().max(1.0) {
             return Err(IntegrateError::StepTooSmall { t });
         }
         let st = dp_step(&rhs, &y, &k1, dir, hs, rtol, atol);
         let err = st.err;
-        if !(err <= 1.0) {
+        if err.is_nan() || err > 1.0 {
             // Rejected (a NaN error counts as rejected and shrinks the step).
             let fac11 = if err.is_finite() { err.powf(EXPO1) } else { 1.0 / FAC_MIN };
             h = hs / (1.0 / FAC_MIN).min(fac11 / SAFETY);
@@ -280,7 +280,11 @@ fn emit(
     y1: &Y,
 ) {
     while *j < times.len() && times[*j] <= t_new {
-        let v = if times[*j] == t_new { *y1 } else { dense_at(dense, (times[*j] - t) / h) };
+        let v = if times[*j].total_cmp(&t_new).is_eq() {
+            *y1
+        } else {
+            dense_at(dense, (times[*j] - t) / h)
+        };
         traj.angle.push(v[0]);
         traj.velocity.push(v[1]);
         *j += 1;

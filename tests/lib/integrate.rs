@@ -8,6 +8,9 @@
 //! amplitude, where sin θ = θ(1 − θ²/6 + …) and each tolerance below states the size of the
 //! neglected nonlinearity, or through relations that are exact for sin θ (§4 energy balance).
 
+// Reference values are quoted with the digits their source prints, even past f64 precision.
+#![allow(clippy::excessive_precision)]
+
 use swingfit::integrate::{
     Event, IntegrateError, Method, dopri, simulate, simulate_with_sensitivities,
 };
