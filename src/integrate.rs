@@ -119,9 +119,10 @@ pub fn simulate(
             Ok(traj)
         }
         Method::DormandPrince { rtol, atol } => {
-            if !(rtol.is_finite() && rtol > 0.0) {
+            if !(rtol.is_finite() && rtol >= dopri::MIN_RTOL) {
                 return Err(IntegrateError::InvalidParams(format!(
-                    "rtol must be a finite number > 0, found {rtol}"
+                    "rtol must be a finite number >= {:e}, found {rtol}",
+                    dopri::MIN_RTOL
                 )));
             }
             if !(atol.is_finite() && atol > 0.0) {

@@ -286,14 +286,14 @@ impl Physics {
                 return Err(format!("{} must be a finite number >= 0, found {}", t.name(), c));
             }
         }
-        if let Some(b) = self.breakaway {
-            if !(b.is_finite() && b >= self.coef(Term::Coulomb)) {
-                return Err(format!(
-                    "breakaway must be finite and >= coulomb ({}), found {}",
-                    self.coef(Term::Coulomb),
-                    b
-                ));
-            }
+        if let Some(b) = self.breakaway
+            && !(b.is_finite() && b >= self.coef(Term::Coulomb))
+        {
+            return Err(format!(
+                "breakaway must be finite and >= coulomb ({}), found {}",
+                self.coef(Term::Coulomb),
+                b
+            ));
         }
         Ok(())
     }

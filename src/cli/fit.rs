@@ -58,7 +58,8 @@ pub struct EstimatorArgs {
 impl EstimatorArgs {
     /// The library's fit options.
     pub fn options(&self) -> Result<FitOptions, Failure> {
-        let damping = DampingSet::parse(&self.damping).map_err(|e| Failure::input(format!("--damping: {e}")))?;
+        let damping = DampingSet::parse(&self.damping)
+            .map_err(|e| Failure::input(format!("--damping: {e}")))?;
         Ok(FitOptions {
             damping,
             bootstrap: (self.bootstrap > 0).then_some(self.bootstrap),
@@ -115,9 +116,9 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
 pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
     match (args.mass, args.pivot_to_cg) {
         (None, None) => Ok(None),
-        (Some(_), None) | (None, Some(_)) => {
-            Err(Failure::input("--mass and --pivot-to-cg go together: give both for physical coefficients"))
-        }
+        (Some(_), None) | (None, Some(_)) => Err(Failure::input(
+            "--mass and --pivot-to-cg go together: give both for physical coefficients",
+        )),
         (Some(m), Some(d)) => {
             let gravity = match (args.gravity, args.latitude) {
                 (Some(g), _) => Gravity::given(g, args.gravity_std),
@@ -138,7 +139,10 @@ pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
 }
 
 /// Physical coefficients of a fit.
-pub fn physical_of(fit: &FitOutcome, article: Option<&ArticleInputs>) -> Result<Option<PhysicalCoefficients>, Failure> {
+pub fn physical_of(
+    fit: &FitOutcome,
+    article: Option<&ArticleInputs>,
+) -> Result<Option<PhysicalCoefficients>, Failure> {
     article
         .map(|a| physical::physical_coefficients(a, &fit.dynamics()).map_err(Failure::rejected))
         .transpose()

@@ -99,7 +99,10 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
                     operator: spec.operator.clone(),
                     notes: spec.notes.clone(),
                     mass: Some((spec.physical.mass.value, spec.physical.mass.u)),
-                    pivot_to_cg: Some((spec.physical.pivot_to_cg.value, spec.physical.pivot_to_cg.u)),
+                    pivot_to_cg: Some((
+                        spec.physical.pivot_to_cg.value,
+                        spec.physical.pivot_to_cg.u,
+                    )),
                     gravity: Some(spec.gravity_words.clone()),
                 },
                 logs: spec

@@ -220,15 +220,24 @@ pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
     assemble(logs, &surveys, done)
 }
 
-fn assemble(logs: &[AngleLog], surveys: &[Survey], done: Vec<(DampingSet, Result<FitOutcome, FitError>)>) -> Comparison {
+fn assemble(
+    logs: &[AngleLog],
+    surveys: &[Survey],
+    done: Vec<(DampingSet, Result<FitOutcome, FitError>)>,
+) -> Comparison {
     // The independent observations are a property of the data, the same for every candidate.
-    let n_obs: usize = done.iter().find_map(|(_, r)| r.as_ref().ok().map(|f| f.n_independent)).unwrap_or(0);
+    let n_obs: usize =
+        done.iter().find_map(|(_, r)| r.as_ref().ok().map(|f| f.n_independent)).unwrap_or(0);
     let mut cands: Vec<CandidateEvidence> = done
         .iter()
         .map(|(set, r)| match r {
             Ok(f) => {
                 let p = f.x.len();
-                let noise_ratio = f.runs.iter().map(|r| r.rms_residual / r.noise_floor.max(1e-12)).fold(0.0, f64::max);
+                let noise_ratio = f
+                    .runs
+                    .iter()
+                    .map(|r| r.rms_residual / r.noise_floor.max(1e-12))
+                    .fold(0.0, f64::max);
                 let all_significant = f.terms.iter().all(|(_, e)| e.ci95.0 > 0.0);
                 CandidateEvidence {
                     damping: *set,
@@ -282,7 +291,8 @@ fn assemble(logs: &[AngleLog], surveys: &[Survey], done: Vec<(DampingSet, Result
         let kb = (b.fit.is_err(), !b.all_significant, b.bic);
         ka.0.cmp(&kb.0).then(ka.1.cmp(&kb.1)).then(ka.2.total_cmp(&kb.2))
     });
-    let eligible: Vec<&CandidateEvidence> = cands.iter().filter(|c| c.fit.is_ok() && c.all_significant).collect();
+    let eligible: Vec<&CandidateEvidence> =
+        cands.iter().filter(|c| c.fit.is_ok() && c.all_significant).collect();
     let explained = eligible.first().is_some_and(|c| c.explains_decay);
     let best = if explained { eligible.first().map(|c| c.damping) } else { None };
     let ties: Vec<DampingSet> = match eligible.first() {
@@ -298,9 +308,22 @@ fn assemble(logs: &[AngleLog], surveys: &[Survey], done: Vec<(DampingSet, Result
     let envelope = envelope_fits(&measured_peaks);
     let period_points: Vec<Vec<PeriodPoint>> = surveys.iter().map(period_points).collect();
     let reference = eligible.first().copied().or_else(|| cands.iter().find(|c| c.fit.is_ok()));
-    let period_curve = reference.and_then(|c| c.outcome()).map(|f| period_curve(f, &period_points)).unwrap_or_default();
+    let period_curve = reference
+        .and_then(|c| c.outcome())
+        .map(|f| period_curve(f, &period_points))
+        .unwrap_or_default();
     let verdict = verdict(&cands, best, &ties, &envelope, logs);
-    Comparison { candidates: cands, best, explained, ties, verdict, measured_peaks, envelope, period_points, period_curve }
+    Comparison {
+        candidates: cands,
+        best,
+        explained,
+        ties,
+        verdict,
+        measured_peaks,
+        envelope,
+        period_points,
+        period_curve,
+    }
 }
 
 /// Turning points of the fitted model, as half-cycle peaks measured from its equilibrium.
@@ -308,15 +331,20 @@ fn model_peaks(logs: &[AngleLog], f: &FitOutcome) -> Vec<Vec<Peak>> {
     logs.iter()
         .zip(&f.runs)
         .map(|(log, run)| {
-            let release =
-                Release { equilibrium: run.equilibrium.value, angle: run.initial_angle.value, velocity: run.initial_velocity.value };
+            let release = Release {
+                equilibrium: run.equilibrium.value,
+                angle: run.initial_angle.value,
+                velocity: run.initial_velocity.value,
+            };
             let max_step = 2.0 * std::f64::consts::PI / f.physics.omega_n / 250.0;
             integrate::simulate(&f.physics, &release, log.times(), Method::Rk4 { max_step })
                 .map(|tr| {
                     tr.events
                         .iter()
                         .filter_map(|e| match e {
-                            Event::Reversal { t, angle } => Some(Peak { t: *t, deflection: angle - release.equilibrium }),
+                            Event::Reversal { t, angle } => {
+                                Some(Peak { t: *t, deflection: angle - release.equilibrium })
+                            }
                             Event::Stick { .. } => None,
                         })
                         .collect()
@@ -363,12 +391,14 @@ pub fn envelope_fits(peaks: &[Vec<Peak>]) -> EnvelopeFits {
             let mx = xs.iter().zip(&ws).map(|(x, w)| w * x).sum::<f64>() / sw;
             let my = ys.iter().zip(&ws).map(|(y, w)| w * y).sum::<f64>() / sw;
             let sxx: f64 = xs.iter().zip(&ws).map(|(x, w)| w * (x - mx) * (x - mx)).sum();
-            let sxy: f64 = xs.iter().zip(&ys).zip(&ws).map(|((x, y), w)| w * (x - mx) * (y - my)).sum();
+            let sxy: f64 =
+                xs.iter().zip(&ys).zip(&ws).map(|((x, y), w)| w * (x - mx) * (y - my)).sum();
             let slope = if sxx > 0.0 { sxy / sxx } else { 0.0 };
             for (x, v) in xs.iter().zip(&a) {
                 let u = my + slope * (x - mx);
                 // Past the law's own end (A ≤ 0) the prediction is zero amplitude.
-                let pred = if law == EnvelopeLaw::Hyperbolic && u <= 0.0 { 0.0 } else { inv(u).max(0.0) };
+                let pred =
+                    if law == EnvelopeLaw::Hyperbolic && u <= 0.0 { 0.0 } else { inv(u).max(0.0) };
                 let d = if pred.is_finite() { pred - v } else { *v };
                 ss += d * d;
                 count += 1;
@@ -388,7 +418,8 @@ fn period_points(s: &Survey) -> Vec<PeriodPoint> {
     let mut out = Vec::new();
     for i in 0..c.len().saturating_sub(2) {
         let (t0, t1) = (c[i], c[i + 2]);
-        let amps: Vec<f64> = s.peaks.iter().filter(|p| p.t > t0 && p.t < t1).map(|p| p.deflection.abs()).collect();
+        let amps: Vec<f64> =
+            s.peaks.iter().filter(|p| p.t > t0 && p.t < t1).map(|p| p.deflection.abs()).collect();
         if amps.len() != 2 {
             continue; // a gap or a missed peak: this cycle is not measured cleanly
         }
@@ -415,13 +446,21 @@ fn fmt_p(p: f64) -> String {
 }
 
 /// The verdict in words with its numbers.
-fn verdict(cands: &[CandidateEvidence], best: Option<DampingSet>, ties: &[DampingSet], env: &EnvelopeFits, logs: &[AngleLog]) -> String {
+fn verdict(
+    cands: &[CandidateEvidence],
+    best: Option<DampingSet>,
+    ties: &[DampingSet],
+    env: &EnvelopeFits,
+    logs: &[AngleLog],
+) -> String {
     let mut v = String::new();
     let ok: Vec<&CandidateEvidence> = cands.iter().filter(|c| c.fit.is_ok()).collect();
     if ok.is_empty() {
         let _ = write!(v, "No candidate could be fitted: ");
-        let reasons: Vec<String> =
-            cands.iter().filter_map(|c| c.fit.as_ref().err().map(|e| format!("{}: {e}", c.damping))).collect();
+        let reasons: Vec<String> = cands
+            .iter()
+            .filter_map(|c| c.fit.as_ref().err().map(|e| format!("{}: {e}", c.damping)))
+            .collect();
         let _ = write!(v, "{}.", reasons.join("; "));
         return v;
     }
@@ -434,7 +473,9 @@ fn verdict(cands: &[CandidateEvidence], best: Option<DampingSet>, ties: &[Dampin
                 b, c.noise_ratio, c.ljung_box_p
             );
             // Larger sets: which added terms the data do not support.
-            for big in cands.iter().filter(|x| x.fit.is_ok() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1) {
+            for big in cands.iter().filter(|x| {
+                x.fit.is_ok() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1
+            }) {
                 let term = big.damping.iter().find(|t| !b.contains(*t)).unwrap_or(Term::Viscous);
                 let ft = big.added_terms.iter().find(|a| a.from == b);
                 let est = big.outcome().and_then(|f| f.term(term).cloned());
@@ -442,22 +483,47 @@ fn verdict(cands: &[CandidateEvidence], best: Option<DampingSet>, ties: &[Dampin
                 if let Some(ft) = ft {
                     let _ = write!(v, " (F = {:.3}, p {}", ft.f, fmt_p(ft.p_value));
                     if let Some(e) = est {
-                        let _ = write!(v, "; {} = {:.3e} ± {:.1e} {}", term.symbol(), e.value, 0.5 * (e.ci95.1 - e.ci95.0), e.unit);
+                        let _ = write!(
+                            v,
+                            "; {} = {:.3e} ± {:.1e} {}",
+                            term.symbol(),
+                            e.value,
+                            0.5 * (e.ci95.1 - e.ci95.0),
+                            e.unit
+                        );
                     }
                     let _ = write!(v, ")");
                 }
                 let _ = write!(v, ".");
             }
-            for big in cands.iter().filter(|x| x.fit.is_err() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1) {
-                let _ = write!(v, " {} could not be fitted ({}).", big.damping, big.fit.as_ref().err().map(|e| e.to_string()).unwrap_or_default());
+            for big in cands.iter().filter(|x| {
+                x.fit.is_err() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1
+            }) {
+                let _ = write!(
+                    v,
+                    " {} could not be fitted ({}).",
+                    big.damping,
+                    big.fit.as_ref().err().map(|e| e.to_string()).unwrap_or_default()
+                );
             }
             // Smaller sets: how far each falls short.
-            for small in cands.iter().filter(|x| x.fit.is_ok() && x.damping.is_subset(b) && x.damping.len() + 1 == b.len()) {
-                let ft = cands.iter().find(|x| x.damping == b).and_then(|x| x.added_terms.iter().find(|a| a.from == small.damping));
-                let _ = write!(v, " {} alone leaves {:.2}x the noise floor", small.damping, small.noise_ratio);
+            for small in cands.iter().filter(|x| {
+                x.fit.is_ok() && x.damping.is_subset(b) && x.damping.len() + 1 == b.len()
+            }) {
+                let ft = cands
+                    .iter()
+                    .find(|x| x.damping == b)
+                    .and_then(|x| x.added_terms.iter().find(|a| a.from == small.damping));
+                let _ = write!(
+                    v,
+                    " {} alone leaves {:.2}x the noise floor",
+                    small.damping, small.noise_ratio
+                );
                 if let Some(ft) = ft {
-                    let term = b.iter().find(|t| !small.damping.contains(*t)).unwrap_or(Term::Viscous);
-                    let _ = write!(v, " (adding {term}: F = {:.3e}, p {})", ft.f, fmt_p(ft.p_value));
+                    let term =
+                        b.iter().find(|t| !small.damping.contains(*t)).unwrap_or(Term::Viscous);
+                    let _ =
+                        write!(v, " (adding {term}: F = {:.3e}, p {})", ft.f, fmt_p(ft.p_value));
                 }
                 let _ = write!(v, ".");
             }
@@ -485,7 +551,12 @@ fn verdict(cands: &[CandidateEvidence], best: Option<DampingSet>, ties: &[Dampin
         }
     }
     if let Some((law, rms)) = env.laws.first() {
-        let _ = write!(v, " Measured envelope: best described as {} (RMS misfit {:.2e} rad).", law.describe(), rms);
+        let _ = write!(
+            v,
+            " Measured envelope: best described as {} (RMS misfit {:.2e} rad).",
+            law.describe(),
+            rms
+        );
     }
     v
 }

@@ -183,7 +183,13 @@ impl LeastSquares for TrajectoryProblem<'_> {
             .map(|k| {
                 let tr = self.trajectory(x, k)?;
                 let run = &self.runs[k];
-                Ok(tr.angle.iter().zip(run.angles).zip(run.weights).map(|((m, y), w)| w * (m - y) * (m - y)).sum())
+                Ok(tr
+                    .angle
+                    .iter()
+                    .zip(run.angles)
+                    .zip(run.weights)
+                    .map(|((m, y), w)| w * (m - y) * (m - y))
+                    .sum())
             })
             .collect();
         let rss: f64 = per_run?.iter().sum();
@@ -213,7 +219,8 @@ impl LeastSquares for TrajectoryProblem<'_> {
                 let mut rss = 0.0;
                 // Accumulate the upper triangle in a flat buffer: this loop runs once per sample.
                 let mut acc = vec![0.0; p_loc * p_loc];
-                for (i, ((m, y), w)) in tr.angle.iter().zip(run.angles).zip(run.weights).enumerate() {
+                for (i, ((m, y), w)) in tr.angle.iter().zip(run.angles).zip(run.weights).enumerate()
+                {
                     let r = m - y;
                     rss += w * r * r;
                     let g = &sens.d_angle[i * p_loc..(i + 1) * p_loc];

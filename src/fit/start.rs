@@ -10,8 +10,8 @@
 //!   −dA/dt = (b1/2)·A + (2/π)·b0/ωn + (4/(3π))·b2·ωn·A². The decrements of successive peaks are
 //!   fitted by non-negative least squares over the chosen terms.
 
-use crate::data::survey::{Peak, Survey};
 use crate::data::AngleLog;
+use crate::data::survey::{Peak, Survey};
 use crate::model::{DampingSet, Physics, Release, Term};
 
 /// Complete elliptic integral of the first kind K(m), parameter m = k², 0 ≤ m < 1, by the AGM.
@@ -54,7 +54,9 @@ pub fn omega_n(surveys: &[(&AngleLog, &Survey)]) -> Result<f64, NoStart> {
         w.push(2.0 * std::f64::consts::PI / period * period_ratio(a));
     }
     if w.is_empty() {
-        return Err(NoStart("no swing period could be measured in any log (too few zero crossings)".into()));
+        return Err(NoStart(
+            "no swing period could be measured in any log (too few zero crossings)".into(),
+        ));
     }
     w.sort_by(f64::total_cmp);
     Ok(w[w.len() / 2])
@@ -101,7 +103,11 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
                 continue;
             }
             let a = 0.5 * (a0 + a1);
-            let basis = [0.5 * a, 2.0 / (std::f64::consts::PI * omega_n), 4.0 * omega_n * a * a / (3.0 * std::f64::consts::PI)];
+            let basis = [
+                0.5 * a,
+                2.0 / (std::f64::consts::PI * omega_n),
+                4.0 * omega_n * a * a / (3.0 * std::f64::consts::PI),
+            ];
             rows.push((basis, (a0 - a1) / dt));
         }
     }
@@ -109,7 +115,12 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
     let mut best: Option<(f64, [f64; 3])> = None;
     // Non-negative least squares by enumerating the active subsets (at most 7).
     for mask in 1u32..(1 << terms.len()) {
-        let active: Vec<Term> = terms.iter().enumerate().filter(|(i, _)| mask & (1 << i) != 0).map(|(_, t)| *t).collect();
+        let active: Vec<Term> = terms
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| mask & (1 << i) != 0)
+            .map(|(_, t)| *t)
+            .collect();
         let k = active.len();
         let mut m = nalgebra::DMatrix::<f64>::zeros(k, k);
         let mut v = nalgebra::DVector::<f64>::zeros(k);

@@ -8,9 +8,7 @@
 //! A velocity zero inside an accepted step is found as a root of the dense ω(t); the step is then
 //! redone up to that instant so the event state carries the full 5th-order accuracy.
 
-use super::{
-    Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero,
-};
+use super::{Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero};
 use crate::model::{Physics, Release};
 
 // The nodes c2…c5 = 1/5, 3/10, 4/5, 8/9 are not needed: the pendulum is autonomous.
@@ -49,6 +47,10 @@ const D5: f64 = 701980252875.0 / 199316789632.0;
 const D6: f64 = -1453857185.0 / 822651844.0;
 const D7: f64 = 69997945.0 / 29380423.0;
 
+/// Finest relative tolerance accepted: below it the error estimate no longer sees rounding
+/// (it only models truncation), so the controller would accept ever smaller steps forever.
+pub const MIN_RTOL: f64 = 1e-14;
+
 /// State [θ, ω].
 type Y = [f64; 2];
 
@@ -81,15 +83,13 @@ fn dp_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, h: f64, rtol: f64, atol: f64) -> 
     let k3 = f(rhs, &comb(y, h, &[(A31, k1), (A32, &k2)]), dir);
     let k4 = f(rhs, &comb(y, h, &[(A41, k1), (A42, &k2), (A43, &k3)]), dir);
     let k5 = f(rhs, &comb(y, h, &[(A51, k1), (A52, &k2), (A53, &k3), (A54, &k4)]), dir);
-    let k6 =
-        f(rhs, &comb(y, h, &[(A61, k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)]), dir);
+    let k6 = f(rhs, &comb(y, h, &[(A61, k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)]), dir);
     let y1 = comb(y, h, &[(A71, k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)]);
     let k7 = f(rhs, &y1, dir);
     let mut sum = 0.0;
     let mut dense = [[0.0; 2]; 5];
     for i in 0..2 {
-        let e = h
-            * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
+        let e = h * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
         let sk = atol + rtol * y[i].abs().max(y1[i].abs());
         sum += (e / sk) * (e / sk);
         let ydiff = y1[i] - y[i];
@@ -98,8 +98,8 @@ fn dp_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, h: f64, rtol: f64, atol: f64) -> 
         dense[1][i] = ydiff;
         dense[2][i] = bspl;
         dense[3][i] = ydiff - h * k7[i] - bspl;
-        dense[4][i] = h
-            * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
+        dense[4][i] =
+            h * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
     }
     Step { y1, k7, err: (0.5 * sum).sqrt(), dense }
 }
@@ -131,11 +131,8 @@ fn initial_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, rtol: f64, atol: f64, span: 
     let y1 = comb(y, h0, &[(1.0, k1)]);
     let k2 = f(rhs, &y1, dir);
     let d2 = norm(&[k2[0] - k1[0], k2[1] - k1[1]]) / h0;
-    let h1 = if d1.max(d2) <= 1e-15 {
-        (h0 * 1e-3).max(1e-6)
-    } else {
-        (0.01 / d1.max(d2)).powf(0.2)
-    };
+    let h1 =
+        if d1.max(d2) <= 1e-15 { (h0 * 1e-3).max(1e-6) } else { (0.01 / d1.max(d2)).powf(0.2) };
     (100.0 * h0).min(h1).min(span)
 }
 
@@ -199,12 +196,12 @@ pub(crate) fn run(
         let span = t_end - t;
         let last = h >= span;
         let hs = if last { span } else { h };
-        if !(hs > 1e-14 * t.abs().max(1.0)) {
+        if hs.is_nan() || hs <= 1e-14 * t.abs().max(1.0) {
             return Err(IntegrateError::StepTooSmall { t });
         }
         let st = dp_step(&rhs, &y, &k1, dir, hs, rtol, atol);
         let err = st.err;
-        if !(err <= 1.0) {
+        if err.is_nan() || err > 1.0 {
             // Rejected (a NaN error counts as rejected and shrinks the step).
             let fac11 = if err.is_finite() { err.powf(EXPO1) } else { 1.0 / FAC_MIN };
             h = hs / (1.0 / FAC_MIN).min(fac11 / SAFETY);
@@ -248,7 +245,8 @@ pub(crate) fn run(
             emit(&mut traj, times, &mut j, t, s, tau, &re.dense, &re.y1);
             (tau, re.y1)
         };
-        let next = if s <= 0.0 { Mode::Stuck } else { decide(physics, release.equilibrium, y_ev[0]) };
+        let next =
+            if s <= 0.0 { Mode::Stuck } else { decide(physics, release.equilibrium, y_ev[0]) };
         y = [y_ev[0], 0.0];
         match next {
             Mode::Stuck => traj.events.push(Event::Stick { t: tau, angle: y[0] }),
@@ -282,7 +280,11 @@ fn emit(
     y1: &Y,
 ) {
     while *j < times.len() && times[*j] <= t_new {
-        let v = if times[*j] == t_new { *y1 } else { dense_at(dense, (times[*j] - t) / h) };
+        let v = if times[*j].total_cmp(&t_new).is_eq() {
+            *y1
+        } else {
+            dense_at(dense, (times[*j] - t) / h)
+        };
         traj.angle.push(v[0]);
         traj.velocity.push(v[1]);
         *j += 1;

@@ -57,8 +57,8 @@ impl Field {
         let a_th = -r.wn2 * c;
         let a_om = -r.damping_domega(x.om);
         let mut so = [0.0; M];
-        for j in 0..M {
-            so[j] = a_th * x.st[j] + a_om * x.so[j];
+        for ((d, st), sw) in so.iter_mut().zip(&x.st).zip(&x.so) {
+            *d = a_th * st + a_om * sw;
         }
         // f_p: ωn, then each fitted term's coefficient, then θeq (θ0 and ω0 enter only S(t0)).
         so[0] -= 2.0 * r.omega_n * s;
@@ -171,7 +171,7 @@ fn advance<const NP: usize>(
         let Mode::Moving(dir) = *mode else { return };
         let y = field.step(x, dir, rem);
         let g_end = dir * y.om;
-        if !(g_end <= 0.0) {
+        if g_end.is_nan() || g_end > 0.0 {
             // Still moving the same way (or non-finite, which the caller reports).
             *x = y;
             return;
@@ -186,7 +186,7 @@ fn advance<const NP: usize>(
             *mode = Mode::Stuck;
             return;
         }
-        let mut y = if hs == rem { y } else { field.step(x, dir, hs) };
+        let mut y = if hs.total_cmp(&rem).is_eq() { y } else { field.step(x, dir, hs) };
         let tau = t + hs;
         let a_minus = field.rhs.accel(y.th, 0.0, dir);
         y.om = 0.0;

@@ -49,7 +49,13 @@ pub struct P {
 
 impl From<&Estimate> for P {
     fn from(e: &Estimate) -> P {
-        P { value: e.value, std: e.std, ci95: [e.ci95.0, e.ci95.1], unit: e.unit.to_string(), expanded_k2: None }
+        P {
+            value: e.value,
+            std: e.std,
+            ci95: [e.ci95.0, e.ci95.1],
+            unit: e.unit.to_string(),
+            expanded_k2: None,
+        }
     }
 }
 
@@ -245,7 +251,11 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             coulomb: p.damping[Term::Coulomb.index()].as_ref().map(P::from),
             quadratic: p.damping[Term::Quadratic.index()].as_ref().map(P::from),
         }),
-        gravity: physical.map(|p| Gravity { value: p.gravity.value, std: p.gravity.u, source: p.gravity.describe() }),
+        gravity: physical.map(|p| Gravity {
+            value: p.gravity.value,
+            std: p.gravity.u,
+            source: p.gravity.describe(),
+        }),
         runs: fit
             .runs
             .iter()
@@ -274,9 +284,14 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
         },
         correlation: Correlation {
             names: fit.names.clone(),
-            matrix: (0..fit.correlation.nrows()).map(|i| fit.correlation.row(i).iter().copied().collect()).collect(),
+            matrix: (0..fit.correlation.nrows())
+                .map(|i| fit.correlation.row(i).iter().copied().collect())
+                .collect(),
         },
-        vector: Vector { fitted: fit.x.iter().copied().collect(), start: fit.start.iter().copied().collect() },
+        vector: Vector {
+            fitted: fit.x.iter().copied().collect(),
+            start: fit.start.iter().copied().collect(),
+        },
         flags: fit.flags.clone(),
     }
 }
@@ -284,7 +299,8 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
 /// Serialize any wire document as pretty JSON with a final newline.
 pub fn to_pretty<T: Serialize>(doc: &T) -> String {
     // Serializing these plain structs cannot fail (no maps with non-string keys); NaN becomes null.
-    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    let mut s =
+        serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
     s.push('\n');
     s
 }
@@ -394,7 +410,12 @@ pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
                 added_terms: e
                     .added_terms
                     .iter()
-                    .map(|a| AddedTermDoc { from: a.from.names(), term: a.term.name(), f: a.f, p_value: a.p_value })
+                    .map(|a| AddedTermDoc {
+                        from: a.from.names(),
+                        term: a.term.name(),
+                        f: a.f,
+                        p_value: a.p_value,
+                    })
                     .collect(),
                 model_peaks: peaks(&e.model_peaks),
             })
@@ -402,7 +423,11 @@ pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
         verdict: c.verdict.clone(),
         envelope_laws: c.envelope.laws.iter().map(|(l, r)| (l.name(), *r)).collect(),
         measured_peaks: peaks(&c.measured_peaks),
-        period_points: c.period_points.iter().map(|r| r.iter().map(|p| [p.amplitude, p.period]).collect()).collect(),
+        period_points: c
+            .period_points
+            .iter()
+            .map(|r| r.iter().map(|p| [p.amplitude, p.period]).collect())
+            .collect(),
         period_curve: c.period_curve.iter().map(|(a, t)| [*a, *t]).collect(),
     }
 }

@@ -36,7 +36,14 @@ fn sig_for(value: f64, half: f64) -> usize {
 fn row(out: &mut String, label: &str, e: &Estimate) {
     let half = 0.5 * (e.ci95.1 - e.ci95.0);
     let sig = sig_for(e.value, half);
-    let _ = writeln!(out, "  {:<34} {:>16}  ± {:<10} {}", label, num(e.value, sig), num(half, 2), e.unit);
+    let _ = writeln!(
+        out,
+        "  {:<34} {:>16}  ± {:<10} {}",
+        label,
+        num(e.value, sig),
+        num(half, 2),
+        e.unit
+    );
 }
 
 fn qrow(out: &mut String, label: &str, q: &Quantity) {
@@ -55,7 +62,14 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
 /// The fit table printed by `swingfit fit`.
 pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> String {
     let mut o = String::new();
-    let _ = writeln!(o, "Damping model: {}   ({} run{}, {} samples)", fit.damping, fit.runs.len(), if fit.runs.len() == 1 { "" } else { "s" }, fit.n_obs);
+    let _ = writeln!(
+        o,
+        "Damping model: {}   ({} run{}, {} samples)",
+        fit.damping,
+        fit.runs.len(),
+        if fit.runs.len() == 1 { "" } else { "s" },
+        fit.n_obs
+    );
     let _ = writeln!(o);
     let _ = writeln!(o, "Per unit inertia (value ± 95 % interval half-width)");
     row(&mut o, "natural frequency omega_n", &fit.omega_n);
@@ -63,7 +77,8 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
         row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
     }
     let period = 2.0 * std::f64::consts::PI / fit.omega_n.value;
-    let _ = writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
+    let _ =
+        writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
     if let Some(p) = physical {
         let _ = writeln!(o);
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
@@ -73,11 +88,15 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
         match &p.gyration_cg {
             Some(q) => qrow(&mut o, "radius of gyration about CG", q),
             None => {
-                let _ = writeln!(o, "  radius of gyration about CG        undefined: J_cg < 0 (check mass and pivot-to-CG)");
+                let _ = writeln!(
+                    o,
+                    "  radius of gyration about CG        undefined: J_cg < 0 (check mass and pivot-to-CG)"
+                );
             }
         }
         qrow(&mut o, "equivalent pendulum length", &p.equivalent_length);
-        let labels = ["viscous coefficient c", "Coulomb friction torque tau_c", "quadratic coefficient c_q"];
+        let labels =
+            ["viscous coefficient c", "Coulomb friction torque tau_c", "quadratic coefficient c_q"];
         for t in Term::ALL {
             if let Some(q) = &p.damping[t.index()] {
                 qrow(&mut o, labels[t.index()], q);
@@ -93,10 +112,20 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
     let _ = writeln!(
         o,
         "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
-        "file", "samples", "equilib. deg", "release deg", "w0 deg/s", "RMS rad", "noise rad", "LB p"
+        "file",
+        "samples",
+        "equilib. deg",
+        "release deg",
+        "w0 deg/s",
+        "RMS rad",
+        "noise rad",
+        "LB p"
     );
     for r in &fit.runs {
-        let name = std::path::Path::new(&r.source).file_name().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| r.source.clone());
+        let name = std::path::Path::new(&r.source)
+            .file_name()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_else(|| r.source.clone());
         let _ = writeln!(
             o,
             "  {:<28} {:>8} {:>14} {:>14} {:>14} {:>11} {:>11} {:>8}",
@@ -120,8 +149,18 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
         num(fit.rss, 4),
         fit.dof
     );
-    let _ = writeln!(o, "     RMS residual {} rad; condition number {}", num(fit.rms_residual(), 3), num(fit.condition, 3));
-    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", interval_method_text(&fit.interval_method), num(fit.t95, 4));
+    let _ = writeln!(
+        o,
+        "     RMS residual {} rad; condition number {}",
+        num(fit.rms_residual(), 3),
+        num(fit.condition, 3)
+    );
+    let _ = writeln!(
+        o,
+        "Intervals: {} (coverage factor t = {})",
+        interval_method_text(&fit.interval_method),
+        num(fit.t95, 4)
+    );
     for f in &fit.flags {
         let _ = writeln!(o, "Note: {f}");
     }
@@ -170,7 +209,9 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
 pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> String {
     use crate::fit::uncertainty::IntervalMethod as M;
     match m {
-        M::Plain => "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into(),
+        M::Plain => {
+            "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into()
+        }
         M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
             "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
         ),

@@ -47,7 +47,11 @@ fn selected_candidates_only() {
 
 #[test]
 fn bad_candidate_list_is_refused() {
-    let out = swingfit().args(["compare", "--candidates", "viscous;drag"]).arg(demo_data("ba7_release15_deg.csv")).assert().code(2);
+    let out = swingfit()
+        .args(["compare", "--candidates", "viscous;drag"])
+        .arg(demo_data("ba7_release15_deg.csv"))
+        .assert()
+        .code(2);
     let err = String::from_utf8_lossy(&out.get_output().stderr).to_string();
     assert!(err.contains("--candidates") && err.contains("drag"), "{err}");
 }

@@ -7,7 +7,8 @@ use serde_json::Value;
 use crate::common::{demo_data, swingfit, test_data};
 
 fn truth() -> Value {
-    serde_json::from_str(&std::fs::read_to_string(demo_data("ba7_release60_true.json")).unwrap()).unwrap()
+    serde_json::from_str(&std::fs::read_to_string(demo_data("ba7_release60_true.json")).unwrap())
+        .unwrap()
 }
 
 fn inside(p: &Value, truth: f64) -> bool {
@@ -22,7 +23,16 @@ fn demo_article_joint_fit_holds_the_truth_in_every_interval() {
     let json = dir.path().join("fit.json");
     let out = swingfit()
         .args(["fit", "--counts-per-rev", "10000", "--damping", "viscous,coulomb,quadratic"])
-        .args(["--mass", "2.4", "--mass-std", "0.002", "--pivot-to-cg", "0.215", "--pivot-to-cg-std", "0.0005"])
+        .args([
+            "--mass",
+            "2.4",
+            "--mass-std",
+            "0.002",
+            "--pivot-to-cg",
+            "0.215",
+            "--pivot-to-cg-std",
+            "0.0005",
+        ])
         .arg(demo_data("ba7_release60_counts.csv"))
         .arg(demo_data("ba7_release15_deg.csv"))
         .arg("--json")
@@ -37,10 +47,18 @@ fn demo_article_joint_fit_holds_the_truth_in_every_interval() {
     assert_eq!(doc["fit"]["converged"], true);
     let t = truth();
     for k in ["omega_n", "viscous", "coulomb", "quadratic"] {
-        assert!(inside(&doc["normalized"][k], t[k].as_f64().unwrap()), "{k}: {}", doc["normalized"][k]);
+        assert!(
+            inside(&doc["normalized"][k], t[k].as_f64().unwrap()),
+            "{k}: {}",
+            doc["normalized"][k]
+        );
     }
     // J = 0.1650 kg·m² by construction of the demo (data/README.md).
-    assert!(inside(&doc["physical"]["inertia_pivot"], 0.1650), "{}", doc["physical"]["inertia_pivot"]);
+    assert!(
+        inside(&doc["physical"]["inertia_pivot"], 0.1650),
+        "{}",
+        doc["physical"]["inertia_pivot"]
+    );
     assert_eq!(doc["physical"]["inertia_pivot"]["unit"], "kg*m^2");
     assert_eq!(doc["runs"].as_array().unwrap().len(), 2);
     assert!(inside(&doc["runs"][0]["equilibrium"], t["equilibrium"].as_f64().unwrap()));
@@ -52,9 +70,25 @@ fn fit_json_replays_through_simulate() {
     let dir = tempfile::tempdir().unwrap();
     let json = dir.path().join("fit.json");
     let log = demo_data("ba7_release15_deg.csv");
-    swingfit().args(["fit", "--damping", "viscous,coulomb,quadratic"]).arg(&log).arg("--json").arg(&json).assert().success();
+    swingfit()
+        .args(["fit", "--damping", "viscous,coulomb,quadratic"])
+        .arg(&log)
+        .arg("--json")
+        .arg(&json)
+        .assert()
+        .success();
     let sim = dir.path().join("replay.csv");
-    swingfit().args(["simulate", "--params"]).arg(&json).arg("--times").arg(&log).arg("--angle-unit").arg("deg").arg("-o").arg(&sim).assert().success();
+    swingfit()
+        .args(["simulate", "--params"])
+        .arg(&json)
+        .arg("--times")
+        .arg(&log)
+        .arg("--angle-unit")
+        .arg("deg")
+        .arg("-o")
+        .arg(&sim)
+        .assert()
+        .success();
     // The replay lies on the measurement within a few noise floors (0.01° noise in this demo).
     let read = |p: &std::path::Path| -> Vec<f64> {
         std::fs::read_to_string(p)
@@ -75,7 +109,13 @@ fn fit_json_replays_through_simulate() {
 fn growing_amplitude_is_rejected_with_exit_1_and_no_json() {
     let dir = tempfile::tempdir().unwrap();
     let json = dir.path().join("fit.json");
-    let out = swingfit().args(["fit", "--damping", "viscous"]).arg(test_data("fit/growing.csv")).arg("--json").arg(&json).assert().code(1);
+    let out = swingfit()
+        .args(["fit", "--damping", "viscous"])
+        .arg(test_data("fit/growing.csv"))
+        .arg("--json")
+        .arg(&json)
+        .assert()
+        .code(1);
     let err = String::from_utf8_lossy(&out.get_output().stderr).to_string();
     assert!(err.contains("pinned at zero"), "{err}");
     assert!(out.get_output().stdout.is_empty(), "no numbers from a failed fit");

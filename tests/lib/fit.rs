@@ -22,10 +22,20 @@ fn opts(d: DampingSet) -> FitOptions {
 /// Every fitted physics value lies within its 95 % interval of the truth.
 fn assert_covers(f: &FitOutcome, truth: &swingfit::model::Physics) {
     let (lo, hi) = f.omega_n.ci95;
-    assert!(lo <= truth.omega_n && truth.omega_n <= hi, "omega_n {} not in [{lo}, {hi}]", truth.omega_n);
+    assert!(
+        lo <= truth.omega_n && truth.omega_n <= hi,
+        "omega_n {} not in [{lo}, {hi}]",
+        truth.omega_n
+    );
     for (t, e) in &f.terms {
         let v = truth.coef(*t);
-        assert!(e.ci95.0 <= v && v <= e.ci95.1, "{t}: truth {v} not in [{}, {}] (fit {})", e.ci95.0, e.ci95.1, e.value);
+        assert!(
+            e.ci95.0 <= v && v <= e.ci95.1,
+            "{t}: truth {v} not in [{}, {}] (fit {})",
+            e.ci95.0,
+            e.ci95.1,
+            e.value
+        );
     }
 }
 
@@ -73,7 +83,14 @@ fn encoder_log_with_offset_and_jittered_times() {
         k += 1;
     }
     let p = physics(5.0, 0.02, 0.01, 0.0);
-    let case = Case { physics: p, release: release(0.3, 0.7), times, noise_rad: 1e-4, counts_per_rev: Some(4096.0), seed: 9 };
+    let case = Case {
+        physics: p,
+        release: release(0.3, 0.7),
+        times,
+        noise_rad: 1e-4,
+        counts_per_rev: Some(4096.0),
+        seed: 9,
+    };
     let log = case.log("encoder.csv");
     assert!(log.angle_step().is_some());
     let f = fit(&[log], &opts(set(&[Term::Viscous, Term::Coulomb]))).expect("fit");
@@ -88,8 +105,15 @@ fn joint_fit_of_two_releases_separates_quadratic_from_viscous() {
     let logs: Vec<AngleLog> = [(0.25, 1), (1.0, 2)]
         .iter()
         .map(|&(a0, seed)| {
-            Case { physics: p, release: release(-0.01, a0), times: uniform(30.0, 50.0), noise_rad: 3e-4, counts_per_rev: None, seed }
-                .log("run.csv")
+            Case {
+                physics: p,
+                release: release(-0.01, a0),
+                times: uniform(30.0, 50.0),
+                noise_rad: 3e-4,
+                counts_per_rev: None,
+                seed,
+            }
+            .log("run.csv")
         })
         .collect();
     let joint = fit(&logs, &opts(d)).expect("joint fit");
@@ -108,7 +132,14 @@ fn monte_carlo_coverage_of_the_95_percent_intervals() {
     let p = physics(4.0, 0.04, 0.02, 0.0);
     let d = set(&[Term::Viscous, Term::Coulomb]);
     let times = uniform(20.0, 50.0);
-    let base = Case { physics: p, release: release(0.0, 0.5), times, noise_rad: 5e-4, counts_per_rev: None, seed: 0 };
+    let base = Case {
+        physics: p,
+        release: release(0.0, 0.5),
+        times,
+        noise_rad: 5e-4,
+        counts_per_rev: None,
+        seed: 0,
+    };
     let reps = 200;
     let mut hits = [0usize; 3];
     let mut values = vec![Vec::new(); 3];
@@ -116,7 +147,11 @@ fn monte_carlo_coverage_of_the_95_percent_intervals() {
     for r in 0..reps {
         let case = Case { seed: 5000 + r as u64, ..base.clone() };
         let f = fit(&[case.log("mc.csv")], &opts(d)).expect("every realisation converges");
-        let ests = [f.omega_n.clone(), f.term(Term::Viscous).cloned().unwrap(), f.term(Term::Coulomb).cloned().unwrap()];
+        let ests = [
+            f.omega_n.clone(),
+            f.term(Term::Viscous).cloned().unwrap(),
+            f.term(Term::Coulomb).cloned().unwrap(),
+        ];
         let truth = [p.omega_n, p.coef(Term::Viscous), p.coef(Term::Coulomb)];
         for k in 0..3 {
             if ests[k].ci95.0 <= truth[k] && truth[k] <= ests[k].ci95.1 {
@@ -131,9 +166,13 @@ fn monte_carlo_coverage_of_the_95_percent_intervals() {
         assert!((0.92..=0.98).contains(&cover), "parameter {k}: coverage {cover}");
         let n = reps as f64;
         let mean = values[k].iter().sum::<f64>() / n;
-        let scatter = (values[k].iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+        let scatter =
+            (values[k].iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
         let reported = stds[k].iter().sum::<f64>() / n;
-        assert!((reported / scatter - 1.0).abs() < 0.15, "parameter {k}: reported {reported} vs scatter {scatter}");
+        assert!(
+            (reported / scatter - 1.0).abs() < 0.15,
+            "parameter {k}: reported {reported} vs scatter {scatter}"
+        );
     }
 }
 
@@ -142,13 +181,25 @@ fn gradient_matches_central_differences() {
     // ½ d(RSS)/dx = Jᵀr: the sensitivity normal equations against central differences of the cost,
     // on a Coulomb case with many reversals.
     let p = physics(4.0, 0.03, 0.05, 0.02);
-    let case = Case { physics: p, release: release(0.05, 0.6), times: uniform(10.0, 100.0), noise_rad: 1e-3, counts_per_rev: None, seed: 3 };
+    let case = Case {
+        physics: p,
+        release: release(0.05, 0.6),
+        times: uniform(10.0, 100.0),
+        noise_rad: 1e-3,
+        counts_per_rev: None,
+        seed: 3,
+    };
     let log = case.log("grad.csv");
     let layout = Layout { damping: DampingSet::FULL, n_runs: 1 };
     let w = repeat_weights(log.angles());
     let problem = TrajectoryProblem {
         layout,
-        runs: vec![RunData { times: log.times(), angles: log.angles(), weights: &w, max_step: 0.002 }],
+        runs: vec![RunData {
+            times: log.times(),
+            angles: log.angles(),
+            weights: &w,
+            max_step: 0.002,
+        }],
     };
     // Slightly off the truth so the gradient is not zero.
     let x = DVector::from_vec(vec![4.01, 0.031, 0.049, 0.021, 0.051, 0.655, 0.01]);
@@ -189,9 +240,11 @@ fn growing_oscillation_is_rejected_not_reported() {
 /// Read a committed SciPy reference case (tests/reference/make_reference.py output).
 fn reference_case(name: &str) -> (AngleLog, serde_json::Value) {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/reference");
-    let log = swingfit::data::load(&dir.join(format!("{name}.csv")), &Default::default()).expect("reference csv");
+    let log = swingfit::data::load(&dir.join(format!("{name}.csv")), &Default::default())
+        .expect("reference csv");
     let params: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join(format!("{name}.json"))).unwrap()).unwrap();
+        serde_json::from_str(&std::fs::read_to_string(dir.join(format!("{name}.json"))).unwrap())
+            .unwrap();
     (log, params)
 }
 
@@ -210,7 +263,11 @@ fn fits_the_scipy_reference_trajectories_exactly() {
         let (log, params) = reference_case(name);
         let f = fit(&[log], &opts(d)).unwrap_or_else(|e| panic!("{name}: {e}"));
         let w = params["omega_n"].as_f64().unwrap();
-        assert!((f.omega_n.value / w - 1.0).abs() < 1e-7, "{name}: omega_n {} vs {w}", f.omega_n.value);
+        assert!(
+            (f.omega_n.value / w - 1.0).abs() < 1e-7,
+            "{name}: omega_n {} vs {w}",
+            f.omega_n.value
+        );
         for t in d.iter() {
             let truth = params[t.name()].as_f64().unwrap_or(0.0);
             let got = f.term(t).unwrap().value;

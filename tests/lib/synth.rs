@@ -26,7 +26,10 @@ pub fn uniform(duration: f64, rate: f64) -> Vec<f64> {
 
 /// Physics with the given coefficients (b1, b0, b2) and ωn.
 pub fn physics(omega_n: f64, b1: f64, b0: f64, b2: f64) -> Physics {
-    Physics::undamped(omega_n).with_coef(Term::Viscous, b1).with_coef(Term::Coulomb, b0).with_coef(Term::Quadratic, b2)
+    Physics::undamped(omega_n)
+        .with_coef(Term::Viscous, b1)
+        .with_coef(Term::Coulomb, b0)
+        .with_coef(Term::Quadratic, b2)
 }
 
 /// Released from rest at `angle` [rad] past the equilibrium `eq`.
@@ -37,9 +40,14 @@ pub fn release(eq: f64, angle: f64) -> Release {
 impl Case {
     /// The noise-free angles.
     pub fn clean(&self) -> Vec<f64> {
-        simulate(&self.physics, &self.release, &self.times, Method::DormandPrince { rtol: 1e-12, atol: 1e-14 })
-            .expect("valid test physics")
-            .angle
+        simulate(
+            &self.physics,
+            &self.release,
+            &self.times,
+            Method::DormandPrince { rtol: 1e-12, atol: 1e-14 },
+        )
+        .expect("valid test physics")
+        .angle
     }
 
     /// The recorded log, read back by the loader.
