@@ -134,6 +134,9 @@ pub fn repeat_weights(angles: &[f64]) -> Vec<f64> {
     w
 }
 
+/// One run's share of the normal equations: (RSS, JᵀJ, Jᵀr) over its local parameters.
+type RunNormal = (f64, DMatrix<f64>, DVector<f64>);
+
 /// The least-squares problem over several runs.
 #[derive(Clone, Debug)]
 pub struct TrajectoryProblem<'a> {
@@ -201,7 +204,7 @@ impl LeastSquares for TrajectoryProblem<'_> {
         let physics = layout.physics(x);
         let np_phys = layout.n_physics();
         let p_loc = np_phys + RELEASE_PARAMS;
-        let parts: Result<Vec<(f64, DMatrix<f64>, DVector<f64>)>, String> = (0..self.runs.len())
+        let parts: Result<Vec<RunNormal>, String> = (0..self.runs.len())
             .into_par_iter()
             .map(|k| {
                 let run = &self.runs[k];

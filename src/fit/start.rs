@@ -99,7 +99,7 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
         for w in run.windows(2) {
             let (a0, a1) = (w[0].deflection.abs(), w[1].deflection.abs());
             let dt = w[1].t - w[0].t;
-            if !(dt > 0.0) || a0 <= 0.0 || a1 <= 0.0 {
+            if dt.is_nan() || dt <= 0.0 || a0 <= 0.0 || a1 <= 0.0 {
                 continue;
             }
             let a = 0.5 * (a0 + a1);

@@ -18,7 +18,7 @@ use swingfit::fit::lm::Convergence;
 use swingfit::fit::uncertainty::IntervalMethod;
 use swingfit::fit::{Estimate, FitError, FitOutcome, RunFit};
 use swingfit::model::{DampingSet, Physics, Term};
-use swingfit::physical::{GravityUsed, PhysicalResult, Quantity};
+use swingfit::physical::{Gravity, GravitySource, PhysicalCoefficients, Quantity};
 use swingfit::report::plot::{self, RunView, Window};
 use swingfit::report::sheet::{self, Identity, InputDigest, Provenance, SheetInput};
 
@@ -111,18 +111,20 @@ fn outcome(runs: Vec<RunFit>) -> FitOutcome {
     }
 }
 
-fn physical() -> PhysicalResult {
-    let q = |value: f64, std: f64, unit| Quantity { value, std, expanded: 2.0 * std, unit };
-    PhysicalResult {
+fn physical() -> PhysicalCoefficients {
+    let q = |value: f64, u_c: f64, unit| Quantity { value, u_c, k: 2.0, expanded: 2.0 * u_c, unit };
+    PhysicalCoefficients {
         inertia_pivot: q(0.11975, 6.1e-5, "kg*m^2"),
         inertia_cg: q(0.008815, 6.3e-5, "kg*m^2"),
-        radius_gyration_pivot: q(0.2234, 6e-5, "m"),
-        radius_gyration_cg: q(0.0606, 2e-4, "m"),
+        gyration_pivot: q(0.2234, 6e-5, "m"),
+        gyration_cg: Some(q(0.0606, 2e-4, "m")),
         equivalent_length: q(0.2321, 5e-5, "m"),
-        viscous: Some(q(0.00958, 4e-6, "N*m*s/rad")),
-        coulomb: None,
-        quadratic: None,
-        gravity: GravityUsed { value: 9.80665, std: 0.0, source: "standard gravity".into() },
+        damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None],
+        period: q(0.9667, 1e-6, "s"),
+        damping_ratio: None,
+        log_decrement: None,
+        quality_factor: None,
+        gravity: Gravity::standard(),
     }
 }
 
@@ -321,7 +323,7 @@ fn value_and_uncertainty_share_decimals() {
 fn input<'a>(
     runs: Vec<RunView<'a>>,
     fit: &'a FitOutcome,
-    phys: Option<&'a PhysicalResult>,
+    phys: Option<&'a PhysicalCoefficients>,
     cmp: Option<&'a Comparison>,
 ) -> SheetInput<'a> {
     SheetInput {
@@ -491,10 +493,10 @@ fn demo_article_file_parses() {
     assert_eq!(spec.id, "BA-7");
     assert_eq!(spec.name, "BA-7 bracket arm");
     assert_eq!(spec.damping, DampingChoice::Auto);
-    assert_relative_eq!(spec.physical.mass.0, 2.40);
-    assert_relative_eq!(spec.physical.mass.1, 0.002);
-    assert_relative_eq!(spec.physical.pivot_to_cg.0, 0.215);
-    assert_relative_eq!(spec.physical.pivot_to_cg.1, 0.0005);
+    assert_relative_eq!(spec.physical.mass.value, 2.40);
+    assert_relative_eq!(spec.physical.mass.u, 0.002);
+    assert_relative_eq!(spec.physical.pivot_to_cg.value, 0.215);
+    assert_relative_eq!(spec.physical.pivot_to_cg.u, 0.0005);
     assert_eq!(spec.runs.len(), 2);
     assert_eq!(spec.runs[0].load.counts_per_rev, Some(10000.0));
     assert_eq!(spec.runs[0].load.angle_unit.as_deref(), Some("counts"));
@@ -515,7 +517,7 @@ fn article_errors_name_file_line_and_key() {
         ok.damping,
         DampingChoice::Terms(DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]))
     );
-    assert!(matches!(ok.physical.gravity, swingfit::physical::GravitySpec::Standard));
+    assert!(matches!(ok.physical.gravity.source, GravitySource::Standard));
     assert_eq!(ok.runs[0].log, Path::new("base").join("a.csv"));
 
     let e = parse_err(&MINIMAL.replace("value = 1.0", "value = -2.4"));
@@ -555,8 +557,8 @@ fn article_errors_name_file_line_and_key() {
     )
     .expect("latitude");
     assert_eq!(
-        g.physical.gravity,
-        swingfit::physical::GravitySpec::Normal { latitude_deg: 45.0, elevation_m: 100.0 }
+        g.physical.gravity.source,
+        GravitySource::NormalGravity { latitude_deg: 45.0, elevation_m: 100.0 }
     );
 }
 
