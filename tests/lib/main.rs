@@ -12,3 +12,4 @@ mod reference;
 mod report;
 mod stats;
 mod synth;
+mod tidy;
