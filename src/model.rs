@@ -312,3 +312,25 @@ pub struct Release {
 
 /// Number of per-run parameters in [`Release`] (equilibrium, angle, velocity).
 pub const RELEASE_PARAMS: usize = 3;
+
+/// Complete elliptic integral of the first kind K(m), parameter m = k², 0 ≤ m < 1, by the AGM.
+pub fn ellip_k(m: f64) -> f64 {
+    let (mut a, mut b) = (1.0f64, (1.0 - m).sqrt());
+    for _ in 0..60 {
+        let (an, bn) = (0.5 * (a + b), (a * b).sqrt());
+        a = an;
+        b = bn;
+        if (a - b).abs() <= 1e-16 * a {
+            break;
+        }
+    }
+    std::f64::consts::FRAC_PI_2 / a
+}
+
+/// Ratio T/T0 of the undamped pendulum's period at amplitude `a` [rad] to its small-amplitude
+/// period: (2/π)·K(sin²(a/2)) (Abramowitz & Stegun 17.3.1 [memory]; CHECKS.md §2). The
+/// large-amplitude to the small-amplitude period for amplitude `a` [rad].
+pub fn period_ratio(a: f64) -> f64 {
+    let s = (0.5 * a.abs().min(3.1)).sin();
+    ellip_k(s * s) / std::f64::consts::FRAC_PI_2
+}

@@ -7,7 +7,8 @@
 //! `source`, `samples`, `duration_s`, `rate_hz`, `jitter` (robust interval spread / median),
 //! `gaps` (list of `{start_s, length_s}`), `angle_min_rad`, `angle_max_rad`, `rest_from_s`
 //! (null when the log does not end at rest), `equilibrium_rad`, `period_s` (null when too few
-//! crossings), `crossings`, `half_cycles` (peaks found), `first_peak_rad`, `noise_rad`,
+//! crossings), `period_small_amplitude_s` (T0 with each half cycle corrected for its amplitude),
+//! `crossings`, `half_cycles` (peaks found), `first_peak_rad`, `noise_rad`,
 //! `encoder_step_rad` (null unless counts), `dropped_lines` (1-based file lines).
 
 use clap::Args;
@@ -43,6 +44,7 @@ struct CheckJson<'a> {
     rest_from_s: Option<f64>,
     equilibrium_rad: f64,
     period_s: Option<f64>,
+    period_small_amplitude_s: Option<f64>,
     crossings: usize,
     half_cycles: usize,
     first_peak_rad: Option<f64>,
@@ -87,6 +89,7 @@ pub fn run(args: &CheckArgs) -> CmdResult {
             rest_from_s: s.rest_from_s,
             equilibrium_rad: s.equilibrium_rad,
             period_s: s.period_s,
+            period_small_amplitude_s: s.period_small_amplitude_s,
             crossings: s.crossings.len(),
             half_cycles: s.peaks.len(),
             first_peak_rad: s.peaks.first().map(|p| p.deflection),
@@ -156,6 +159,12 @@ fn summary_lines(source: &str, s: &survey::Survey, dropped: &[u64]) -> Vec<(&'st
             None => format!("not found ({} crossings of the equilibrium)", s.crossings.len()),
         },
     ));
+    if let Some(p0) = s.period_small_amplitude_s {
+        rows.push((
+            "small-swing T0",
+            format!("{p0:.5} s (each half cycle corrected for its amplitude)"),
+        ));
+    }
     rows.push((
         "half cycles",
         match (s.peaks.first(), s.peaks.last()) {

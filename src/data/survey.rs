@@ -69,6 +69,10 @@ pub struct Survey {
     pub equilibrium_rad: f64,
     /// Swing period from zero crossings about the equilibrium [s], when there are enough.
     pub period_s: Option<f64>,
+    /// Small-amplitude period T0 [s]: the median over half cycles of twice the peak-to-peak time
+    /// divided by (2/π)·K(sin²(A/2)) at that half cycle's amplitude, so a large release does not
+    /// lengthen it (see [`crate::model::period_ratio`]).
+    pub period_small_amplitude_s: Option<f64>,
     /// Noise floor estimate (standard deviation) [rad].
     pub noise_rad: f64,
     /// Encoder step [rad] when the angle came in counts.
@@ -143,6 +147,7 @@ pub fn survey(log: &AngleLog) -> Survey {
         .filter(|e| e.clean && before_rest(e.t))
         .map(|e| Peak { t: e.t, deflection: e.value - equilibrium_rad })
         .collect();
+    let period_small_amplitude_s = small_amplitude_period(&peaks, &gaps, period_s);
 
     Survey {
         samples: n,
@@ -154,11 +159,35 @@ pub fn survey(log: &AngleLog) -> Survey {
         rest_from_s,
         equilibrium_rad,
         period_s,
+        period_small_amplitude_s,
         noise_rad,
         encoder_step_rad: step,
         crossings: crossings.iter().map(|c| c.t).collect(),
         peaks,
     }
+}
+
+/// T0 from consecutive opposite peaks not separated by a gap, each half period corrected for its
+/// amplitude; only half cycles within 25 % of the measured period's half are used.
+fn small_amplitude_period(peaks: &[Peak], gaps: &[Gap], period_s: Option<f64>) -> Option<f64> {
+    let half = 0.5 * period_s?;
+    let spans_gap = |a: f64, b: f64| gaps.iter().any(|g| g.start_s >= a && g.start_s < b);
+    let t0: Vec<f64> = peaks
+        .windows(2)
+        .filter(|w| {
+            (w[0].deflection > 0.0) != (w[1].deflection > 0.0) && !spans_gap(w[0].t, w[1].t)
+        })
+        .filter(|w| ((w[1].t - w[0].t) / half - 1.0).abs() < 0.25)
+        .map(|w| {
+            let a = 0.5 * (w[0].deflection.abs() + w[1].deflection.abs());
+            2.0 * (w[1].t - w[0].t) / crate::model::period_ratio(a)
+        })
+        .collect();
+    if t0.len() < 2 {
+        return None;
+    }
+    let m = median(t0);
+    m.is_finite().then_some(m)
 }
 
 /// Median (NaN for an empty list). Non-finite values sort last.

@@ -14,25 +14,7 @@ use crate::data::AngleLog;
 use crate::data::survey::{Peak, Survey};
 use crate::model::{DampingSet, Physics, Release, Term};
 
-/// Complete elliptic integral of the first kind K(m), parameter m = k², 0 ≤ m < 1, by the AGM.
-pub fn ellip_k(m: f64) -> f64 {
-    let (mut a, mut b) = (1.0f64, (1.0 - m).sqrt());
-    for _ in 0..60 {
-        let (an, bn) = (0.5 * (a + b), (a * b).sqrt());
-        a = an;
-        b = bn;
-        if (a - b).abs() <= 1e-16 * a {
-            break;
-        }
-    }
-    std::f64::consts::FRAC_PI_2 / a
-}
-
-/// Ratio T/T0 of the large-amplitude to the small-amplitude period for amplitude `a` [rad].
-pub fn period_ratio(a: f64) -> f64 {
-    let s = (0.5 * a.abs().min(3.1)).sin();
-    ellip_k(s * s) / std::f64::consts::FRAC_PI_2
-}
+pub use crate::model::{ellip_k, period_ratio};
 
 /// Why no start could be found.
 #[derive(Debug, Clone, PartialEq)]
@@ -41,17 +23,18 @@ pub struct NoStart(pub String);
 /// Start value of the natural frequency from several surveyed runs (median over runs).
 pub fn omega_n(surveys: &[(&AngleLog, &Survey)]) -> Result<f64, NoStart> {
     let mut w: Vec<f64> = Vec::new();
-    for (log, s) in surveys {
-        let Some(period) = s.period_s else { continue };
-        if !(period.is_finite() && period > 0.0) {
-            continue;
+    for (_, s) in surveys {
+        // Prefer the amplitude-corrected small-swing period; else correct the mean period for
+        // the median amplitude.
+        let t0 = s.period_small_amplitude_s.or_else(|| {
+            let mut amps: Vec<f64> = s.peaks.iter().map(|p| p.deflection.abs()).collect();
+            amps.sort_by(f64::total_cmp);
+            let a = if amps.is_empty() { 0.0 } else { amps[amps.len() / 2] };
+            s.period_s.map(|p| p / period_ratio(a))
+        });
+        if let Some(t0) = t0.filter(|t| t.is_finite() && *t > 0.0) {
+            w.push(2.0 * std::f64::consts::PI / t0);
         }
-        // Typical amplitude over the cycles that set the period estimate.
-        let mut amps: Vec<f64> = s.peaks.iter().map(|p| p.deflection.abs()).collect();
-        amps.sort_by(f64::total_cmp);
-        let a = if amps.is_empty() { 0.0 } else { amps[amps.len() / 2] };
-        let _ = log;
-        w.push(2.0 * std::f64::consts::PI / period * period_ratio(a));
     }
     if w.is_empty() {
         return Err(NoStart(

@@ -410,3 +410,25 @@ fn held_then_released_puts_the_first_peak_at_the_release() {
     assert!(sv.period_s.is_some_and(|p| (p / TD - 1.0).abs() < 1e-3), "period {:?}", sv.period_s);
     assert!((sv.equilibrium_rad - 0.1).abs() < 1e-3);
 }
+
+#[test]
+fn small_swing_period_corrects_a_large_release() {
+    // A 70° release of an undamped-ish pendulum: the mean period is several per cent longer than
+    // T0 = 2π/ωn, and the amplitude-corrected one must return T0 (T/T0 = (2/π)K(sin²(A/2)),
+    // Abramowitz & Stegun 17.3.1 [memory]; CHECKS.md §2).
+    use crate::synth::{Case, physics, release, uniform};
+    let w = 5.0;
+    let case = Case {
+        physics: physics(w, 0.01, 0.0, 0.0),
+        release: release(0.1, 70f64.to_radians()),
+        times: uniform(30.0, 200.0),
+        noise_rad: 1e-4,
+        counts_per_rev: None,
+        seed: 21,
+    };
+    let s = swingfit::data::survey::survey(&case.log("big.csv"));
+    let t0 = 2.0 * std::f64::consts::PI / w;
+    assert!(s.period_s.unwrap() / t0 > 1.05, "mean period {:?}", s.period_s);
+    let p0 = s.period_small_amplitude_s.expect("T0 estimate");
+    assert!((p0 / t0 - 1.0).abs() < 1e-3, "T0 {p0} vs {t0}");
+}
