@@ -7,6 +7,7 @@
 
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
+mod batch;
 mod check;
 pub mod fit;
 mod simulate;
@@ -56,6 +57,8 @@ enum Command {
     Simulate(simulate::SimulateArgs),
     /// Fit the logs of one article and report its coefficients with intervals.
     Fit(fit::FitArgs),
+    /// Fit many logs, one fit each, in parallel, and write a summary row per log.
+    Batch(batch::BatchArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -113,6 +116,7 @@ where
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
+        Command::Batch(a) => batch::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
