@@ -489,3 +489,122 @@ pub fn exit_code(rows: &[Row]) -> u8 {
         0
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn est(value: f64, std: f64, unit: &'static str) -> Estimate {
+        Estimate { value, std, ci95: (value - 2.0 * std, value + 2.0 * std), unit }
+    }
+
+    fn ok_row(file: &str) -> Row {
+        Row {
+            file: file.into(),
+            result: Ok(RowFit {
+                samples: 2001,
+                dropped_rows: 0,
+                iterations: 12,
+                rms_residual: 8.5e-5,
+                noise_floor: 8.7e-5,
+                omega_n: est(4.75, 0.125, "rad/s"),
+                terms: vec![
+                    (Term::Viscous, est(0.0625, 0.0078125, "1/s")),
+                    (Term::Coulomb, est(0.03, 2e-3, "rad/s^2")),
+                ],
+                physical: None,
+            }),
+        }
+    }
+
+    fn bad_row(file: &str, kind: ErrorKind) -> Row {
+        Row {
+            file: file.into(),
+            result: Err(RowError {
+                kind,
+                message: format!("{file}:3: expected a number, found \"x, y\""),
+            }),
+        }
+    }
+
+    #[test]
+    fn csv_has_one_column_group_per_fitted_coefficient_and_quotes_messages() {
+        let set = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]);
+        let text = summary_csv(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Input)], set, false);
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines.len(), 3);
+        assert_eq!(
+            lines[0],
+            "file,status,error_kind,error,samples,dropped_rows,iterations,rms_residual,noise_floor,\
+             omega_n,omega_n_std,omega_n_ci95_lo,omega_n_ci95_hi,viscous,viscous_std,viscous_ci95_lo,viscous_ci95_hi,\
+             coulomb,coulomb_std,coulomb_ci95_lo,coulomb_ci95_hi"
+        );
+        assert_eq!(
+            lines[1],
+            "a.csv,ok,,,2001,0,12,0.000085,0.000087,4.75,0.125,4.5,5,0.0625,0.0078125,0.046875,0.078125,0.03,0.002,0.026,0.034"
+        );
+        // The message has a comma and quotes: csv quoting keeps it one field.
+        assert_eq!(
+            lines[2],
+            "b.csv,error,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
+        );
+        let header_fields = lines[0].split(',').count();
+        let mut r = csv::Reader::from_reader(text.as_bytes());
+        for rec in r.records() {
+            assert_eq!(rec.map(|r| r.len()).unwrap_or(0), header_fields);
+        }
+    }
+
+    #[test]
+    fn jsonl_is_one_object_per_row_with_nulls_on_errors() {
+        let text = summary_jsonl(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Rejected)]);
+        let lines: Vec<serde_json::Value> = text
+            .lines()
+            .map(|l| serde_json::from_str(l).unwrap_or(serde_json::Value::Null))
+            .collect();
+        assert_eq!(lines.len(), 2);
+        assert_eq!(lines[0]["normalized"]["coulomb"]["ci95"][1].as_f64(), Some(0.034));
+        assert_eq!(lines[0]["iterations"].as_u64(), Some(12));
+        assert_eq!(lines[1]["status"], "error");
+        assert_eq!(lines[1]["error_kind"], "rejected");
+        assert!(lines[1]["normalized"].is_null() && lines[1]["samples"].is_null());
+    }
+
+    #[test]
+    fn exit_code_puts_bad_input_before_rejection() {
+        let ok = ok_row("a.csv");
+        assert_eq!(exit_code(std::slice::from_ref(&ok)), 0);
+        assert_eq!(exit_code(&[ok.clone(), bad_row("b", ErrorKind::Rejected)]), 1);
+        assert_eq!(
+            exit_code(&[bad_row("b", ErrorKind::Rejected), bad_row("c", ErrorKind::Input), ok]),
+            2
+        );
+    }
+
+    #[test]
+    fn inputs_are_sorted_deduplicated_and_typed_by_extension() {
+        let dir = std::env::temp_dir().join(format!("swingfit-batch-unit-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(dir.join("sub")).unwrap_or(());
+        for f in ["b.csv", "a.CSV", "notes.txt", "art.toml", "sub/c.csv"] {
+            std::fs::write(dir.join(f), "x").unwrap_or(());
+        }
+        let got = collect_inputs(&[dir.clone(), dir.join("b.csv"), dir.join("x.toml")])
+            .unwrap_or_default();
+        let _ = std::fs::remove_dir_all(&dir);
+        assert_eq!(
+            got,
+            vec![
+                Input::Log(dir.join("a.CSV")),
+                Input::Log(dir.join("b.csv")),
+                Input::Article(dir.join("x.toml"))
+            ]
+        );
+        let empty =
+            std::env::temp_dir().join(format!("swingfit-batch-empty-{}", std::process::id()));
+        std::fs::create_dir_all(&empty).unwrap_or(());
+        let err = collect_inputs(std::slice::from_ref(&empty));
+        let _ = std::fs::remove_dir_all(&empty);
+        assert!(matches!(err, Err(BatchError::NoInputs(_))));
+    }
+}
