@@ -9,6 +9,7 @@
 
 mod batch;
 mod check;
+mod compare;
 pub mod fit;
 mod simulate;
 
@@ -43,7 +44,11 @@ impl Failure {
 pub type CmdResult = Result<(), Failure>;
 
 #[derive(Parser, Debug)]
-#[command(name = "swingfit", version, about = "Moment of inertia and damping of a swinging test article, from its angle logs")]
+#[command(
+    name = "swingfit",
+    version,
+    about = "Moment of inertia and damping of a swinging test article, from its angle logs"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -57,6 +62,8 @@ enum Command {
     Simulate(simulate::SimulateArgs),
     /// Fit the logs of one article and report its coefficients with intervals.
     Fit(fit::FitArgs),
+    /// Fit every candidate damping set and say which one explains the decay.
+    Compare(compare::CompareArgs),
     /// Fit many logs, one fit each, in parallel, and write a summary row per log.
     Batch(batch::BatchArgs),
 }
@@ -116,6 +123,7 @@ where
         Command::Check(a) => check::run(&a),
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
+        Command::Compare(a) => compare::run(&a),
         Command::Batch(a) => batch::run(&a),
     };
     match result {

@@ -1,12 +1,11 @@
 //! Loading and validating timestamped angle logs.
 //!
-//! (Interface fixed by the lead; bodies to be written in issue 2.)
-//!
 //! A log becomes an [`AngleLog`] only through this module, which guarantees: SI units (s, rad),
 //! finite values, strictly increasing time, at least [`MIN_SAMPLES`] samples. Downstream code
 //! takes `&AngleLog` and never checks again. Sample times are kept exactly as recorded: nothing
 //! downstream may assume a fixed rate.
 
+mod read;
 pub mod survey;
 pub mod write;
 
@@ -28,9 +27,21 @@ pub struct AngleLog {
 impl AngleLog {
     /// Build a log from samples already in SI units, with the same checks as the loader
     /// (finite, strictly increasing, long enough). `source` names it in messages.
-    pub fn from_samples(source: &str, times: Vec<f64>, angles: Vec<f64>) -> Result<AngleLog, LoadError> {
-        let _ = (source, times, angles);
-        todo!("issue 2")
+    /// In errors, `line` is the 1-based sample index.
+    pub fn from_samples(
+        source: &str,
+        times: Vec<f64>,
+        angles: Vec<f64>,
+    ) -> Result<AngleLog, LoadError> {
+        let lines: Vec<u64> = (1..=times.len() as u64).collect();
+        validate(source, &times, &angles, &lines, "sample")?;
+        Ok(AngleLog {
+            source: source.to_string(),
+            times,
+            angles,
+            angle_step: None,
+            dropped_lines: Vec::new(),
+        })
     }
 
     /// Where the log came from (file path as given), for messages.
@@ -94,12 +105,121 @@ pub struct LoadError {
 
 /// Read and validate the log at `path`.
 pub fn load(path: &Path, opts: &LoadOptions) -> Result<AngleLog, LoadError> {
-    let _ = (path, opts);
-    todo!("issue 2")
+    let name = path.display().to_string();
+    let bytes = std::fs::read(path).map_err(|e| LoadError {
+        path: name.clone(),
+        line: None,
+        kind: format!("cannot read file: {}", e.to_string().to_lowercase()),
+    })?;
+    parse(&name, &bytes, opts)
 }
 
 /// Parse and validate log bytes; `name` is used in messages. Never panics, on any input.
 pub fn parse(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<AngleLog, LoadError> {
-    let _ = (name, bytes, opts);
-    todo!("issue 2")
+    let table = read::read(name, bytes, opts)?;
+    validate(name, &table.times, &table.angles, &table.lines, "line")?;
+    Ok(AngleLog {
+        source: name.to_string(),
+        times: table.times,
+        angles: table.angles,
+        angle_step: table.angle_step,
+        dropped_lines: table.dropped_lines,
+    })
+}
+
+/// Crossings of the midline needed for "two swings": a full swing crosses it twice.
+pub const MIN_MIDLINE_CROSSINGS: usize = 4;
+
+/// Count crossings of the midline (θmax+θmin)/2, with a hysteresis of 5 % of the range
+/// (θmax−θmin) on each side, so noise alone cannot add crossings: a crossing counts only when
+/// the angle passes from below `mid − h` to above `mid + h` or back.
+pub fn midline_crossings(angles: &[f64]) -> usize {
+    let (lo, hi) = angles
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &a| (lo.min(a), hi.max(a)));
+    let range = hi - lo;
+    if !(range.is_finite() && range > 0.0) {
+        return 0;
+    }
+    let mid = 0.5 * (hi + lo);
+    let h = 0.05 * range;
+    let mut side = 0i8;
+    let mut n = 0;
+    for &a in angles {
+        let s = if a > mid + h {
+            1
+        } else if a < mid - h {
+            -1
+        } else {
+            0
+        };
+        if s != 0 {
+            if side != 0 && s != side {
+                n += 1;
+            }
+            side = s;
+        }
+    }
+    n
+}
+
+/// The checks every log passes: same length, finite, strictly increasing time, at least
+/// [`MIN_SAMPLES`] samples and at least two swings. `lines[i]` names sample `i` in messages.
+fn validate(
+    source: &str,
+    times: &[f64],
+    angles: &[f64],
+    lines: &[u64],
+    what: &str,
+) -> Result<(), LoadError> {
+    let err = |line: Option<u64>, kind: String| LoadError { path: source.to_string(), line, kind };
+    if times.len() != angles.len() {
+        return Err(err(
+            None,
+            format!(
+                "expected as many angles as times, found {} times and {} angles",
+                times.len(),
+                angles.len()
+            ),
+        ));
+    }
+    let line_of = |i: usize| lines.get(i).copied().unwrap_or(i as u64 + 1);
+    for (i, (&t, &a)) in times.iter().zip(angles).enumerate() {
+        if !t.is_finite() {
+            return Err(err(Some(line_of(i)), format!("expected a finite time, found {t}")));
+        }
+        if !a.is_finite() {
+            return Err(err(Some(line_of(i)), format!("expected a finite angle, found {a}")));
+        }
+    }
+    for i in 1..times.len() {
+        if times[i] <= times[i - 1] {
+            return Err(err(
+                Some(line_of(i)),
+                format!(
+                    "time {} s is not after {} s ({what} {}): expected strictly increasing time",
+                    times[i],
+                    times[i - 1],
+                    line_of(i - 1)
+                ),
+            ));
+        }
+    }
+    if times.len() < MIN_SAMPLES {
+        let line = if times.is_empty() { None } else { Some(line_of(times.len() - 1)) };
+        return Err(err(
+            line,
+            format!("only {} samples: expected at least {MIN_SAMPLES} to fit a swing", times.len()),
+        ));
+    }
+    let n = midline_crossings(angles);
+    if n < MIN_MIDLINE_CROSSINGS {
+        return Err(err(
+            None,
+            format!(
+                "angle crosses its midline only {n} times: expected at least two swings ({MIN_MIDLINE_CROSSINGS} crossings)"
+            ),
+        ));
+    }
+    Ok(())
 }

@@ -23,6 +23,7 @@ use nalgebra::{DMatrix, DVector};
 use crate::data::AngleLog;
 use crate::data::survey::{Survey, survey};
 use crate::model::{DampingSet, Physics, Release, Term};
+use crate::stats;
 use lm::{Convergence, LmError, LmSettings};
 use problem::{Layout, RunData, TrajectoryProblem};
 
@@ -315,21 +316,45 @@ fn finish(
         .map(|k| problem.trajectory(&x, k))
         .collect::<Result<_, _>>()
         .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
-    let unc = uncertainty::assess(&sol.at_min, n_obs, &residuals, &layout.names(), &x)
-        .map_err(|e| FitError::Singular { damping: options.damping, detail: e.to_string() })?;
-    let (covariance, interval_method) = match options.bootstrap {
-        Some(b) if b >= 2 => bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &unc)?,
-        _ => (unc.covariance.clone(), unc.method.clone()),
+    let singular = |e: uncertainty::UncertaintyError| FitError::Singular { damping: options.damping, detail: e.to_string() };
+    let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_obs).map_err(singular)?;
+    let all_residuals: Vec<f64> = residuals.concat();
+    let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05).map_err(singular)?;
+    let intervals = match options.bootstrap {
+        Some(b) if b >= 2 => bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &plain, cov.dof)?,
+        _ => plain,
     };
-    let t95 = unc.t95;
+    // Covariance consistent with the reported standard uncertainties (widening rescales it).
+    let mut covariance = cov.cov.clone();
+    for i in 0..p {
+        for j in 0..p {
+            let si = intervals.params[i].std / cov.std[i].max(1e-300);
+            let sj = intervals.params[j].std / cov.std[j].max(1e-300);
+            covariance[(i, j)] *= si * sj;
+        }
+    }
+    let t95 = intervals.coverage_factor;
     let est = |i: usize, unit: &'static str| {
-        let s = covariance[(i, i)].max(0.0).sqrt();
-        Estimate { value: x[i], std: s, ci95: (x[i] - t95 * s, x[i] + t95 * s), unit }
+        let iv = &intervals.params[i];
+        Estimate { value: iv.value, std: iv.std, ci95: (iv.lo, iv.hi), unit }
     };
+    let names = layout.names();
+    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    // Flags about the shared physics only: the release of each run is always well determined
+    // or harmless (an initial velocity of zero has an interval wider than its value by nature).
+    let mut flags: Vec<String> = uncertainty::identifiability_flags(&name_refs, &cov, &intervals)
+        .into_iter()
+        .filter(|f| f.param < layout.n_physics() && !matches!(f.kind, uncertainty::FlagKind::Correlated { other, .. } if other >= layout.n_physics()))
+        .map(|f| f.message)
+        .collect();
+    let ljung_box: Vec<f64> = residuals
+        .iter()
+        .map(|r| stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0).map(|l| l.p_value).unwrap_or(f64::NAN))
+        .collect();
+    let interval_method = intervals.method.clone();
     let physics = layout.physics(&x);
     let terms: Vec<(Term, Estimate)> =
         options.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
-    let mut flags = unc.flags.clone();
     let runs: Vec<RunFit> = (0..logs.len())
         .map(|k| {
             let o = layout.run_offset(k);
@@ -353,26 +378,26 @@ fn finish(
                 initial_velocity: est(o + 2, "rad/s"),
                 rms_residual: rms,
                 noise_floor: noise,
-                ljung_box_p: unc.ljung_box_p.get(k).copied().unwrap_or(f64::NAN),
+                ljung_box_p: ljung_box[k],
                 residuals: r.clone(),
                 model_angle: trajectories[k].angle.clone(),
                 model_velocity: trajectories[k].velocity.clone(),
             }
         })
         .collect();
-    let correlation = uncertainty::correlation(&covariance);
+    let correlation = cov.corr.clone();
     Ok(FitOutcome {
         damping: options.damping,
         physics,
         omega_n: est(0, "rad/s"),
         terms,
         runs,
-        names: layout.names(),
+        names,
         x,
         start,
         covariance,
         correlation,
-        condition: unc.condition,
+        condition: cov.condition,
         iterations: sol.iterations,
         iterations_total,
         rss: sol.at_min.rss,
@@ -385,9 +410,9 @@ fn finish(
     })
 }
 
-/// Moving-block bootstrap: refit on model + resampled residual blocks, `b` times, each with its
-/// own seed (so the result does not depend on thread count), and take the covariance of the
-/// replicates.
+/// Moving-block bootstrap: refit on model − resampled residual blocks, `b` times, each replicate
+/// with its own seed (so the result does not depend on thread count). The reported standard
+/// uncertainty is the larger of the bootstrap's and the analytic one: resampling can only widen.
 #[allow(clippy::too_many_arguments)]
 fn bootstrap(
     logs: &[AngleLog],
@@ -398,12 +423,13 @@ fn bootstrap(
     residuals: &[Vec<f64>],
     trajectories: &[crate::integrate::Trajectory],
     b: usize,
-    unc: &uncertainty::Assessment,
-) -> Result<(DMatrix<f64>, uncertainty::IntervalMethod), FitError> {
+    analytic: &uncertainty::IntervalSet,
+    dof: usize,
+) -> Result<uncertainty::IntervalSet, FitError> {
     use rayon::prelude::*;
     let physics = layout.physics(x);
     let releases: Vec<Release> = (0..logs.len()).map(|k| layout.release(x, k)).collect();
-    let block = residuals.iter().map(|r| uncertainty::block_length(r)).max().unwrap_or(1);
+    let block = residuals.iter().map(|r| uncertainty::block_length_rule(r)).max().unwrap_or(1);
     let replicates: Vec<Option<DVector<f64>>> = (0..b)
         .into_par_iter()
         .map(|i| {
@@ -412,8 +438,9 @@ fn bootstrap(
                 .iter()
                 .enumerate()
                 .map(|(k, l)| {
-                    let e = uncertainty::block_resample(&residuals[k], block, seed.wrapping_add(k as u64 * 7919));
-                    let y: Vec<f64> = trajectories[k].angle.iter().zip(&e).map(|(m, r)| m - r).collect();
+                    let mut boot = uncertainty::BlockBootstrap::new(&residuals[k], block, seed.wrapping_add(7919 * k as u64)).ok()?;
+                    let e = boot.sample();
+                    let y: Vec<f64> = trajectories[k].angle.iter().zip(e.iter()).map(|(m, r)| m - r).collect();
                     AngleLog::from_samples(l.source(), l.times().to_vec(), y).ok()
                 })
                 .collect();
@@ -429,23 +456,15 @@ fn bootstrap(
             reason: format!("only {} of {} bootstrap refits converged", ok.len(), b),
         });
     }
-    let n = ok.len() as f64;
-    let mean = ok.iter().fold(DVector::zeros(x.len()), |a, v| a + v) / n;
-    let mut cov = DMatrix::zeros(x.len(), x.len());
-    for v in &ok {
-        let d = v - &mean;
-        cov += &d * d.transpose();
-    }
-    cov /= n - 1.0;
-    // Never report less than the analytic covariance: the bootstrap can only widen.
-    for i in 0..x.len() {
-        if cov[(i, i)] < unc.covariance[(i, i)] {
-            let s = (unc.covariance[(i, i)] / cov[(i, i)].max(1e-300)).sqrt();
-            for j in 0..x.len() {
-                cov[(i, j)] *= s;
-                cov[(j, i)] *= s;
-            }
+    let mut set = uncertainty::bootstrap_intervals(x, &ok, dof as f64, block, options.seed)
+        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e.to_string() })?;
+    let t = set.coverage_factor;
+    for (iv, a) in set.params.iter_mut().zip(&analytic.params) {
+        if iv.std < a.std {
+            iv.std = a.std;
+            iv.lo = iv.value - t * a.std;
+            iv.hi = iv.value + t * a.std;
         }
     }
-    Ok((cov, uncertainty::IntervalMethod::Bootstrap { replicates: ok.len(), block }))
+    Ok(set)
 }

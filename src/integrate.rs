@@ -1,14 +1,20 @@
 //! Integration of the pendulum model at arbitrary, non-uniform sample times.
 //!
-//! (Interface fixed by the lead; bodies to be written in issue 3.)
-//!
 //! Two schemes: classical RK4 with sub-steps between sample times (used by the estimator, with
 //! forward sensitivities), and adaptive Dormand–Prince 5(4) with dense output (used by `simulate`
 //! and as a check). Both locate the instants where the angular velocity reaches zero inside a step
 //! and apply the stick–slip rule there: the article sticks if |ωn² sin(θ−θeq)| ≤ the static
 //! friction level, else it reverses with the Coulomb sign switched.
+//!
+//! The two schemes live in [`rk4`] (which also carries the forward sensitivities, generic over the
+//! number of parameters so the hot loop works on fixed arrays) and [`dopri`]. This file holds what
+//! both share: input checks, the stick–slip decision and the safeguarded root finder that locates
+//! velocity zeros. See docs/integration.md for the equations.
 
-use crate::model::{DampingSet, Physics, Release};
+pub mod dopri;
+mod rk4;
+
+use crate::model::{DampingSet, Physics, Release, Term};
 
 /// Which scheme to use, with its accuracy setting.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -97,20 +103,43 @@ pub enum IntegrateError {
 }
 
 /// Integrate from the release at `times[0]` and return the trajectory at every time in `times`.
+///
+/// `times` must be finite and strictly increasing; an empty slice gives an empty trajectory.
 pub fn simulate(
     physics: &Physics,
     release: &Release,
     times: &[f64],
     method: Method,
 ) -> Result<Trajectory, IntegrateError> {
-    let _ = (physics, release, times, method);
-    todo!("issue 3")
+    check_inputs(physics, release, times)?;
+    match method {
+        Method::Rk4 { max_step } => {
+            check_max_step(max_step)?;
+            let (traj, _) = rk4::run::<0>(physics, release, times, DampingSet::EMPTY, max_step)?;
+            Ok(traj)
+        }
+        Method::DormandPrince { rtol, atol } => {
+            if !(rtol.is_finite() && rtol > 0.0) {
+                return Err(IntegrateError::InvalidParams(format!(
+                    "rtol must be a finite number > 0, found {rtol}"
+                )));
+            }
+            if !(atol.is_finite() && atol > 0.0) {
+                return Err(IntegrateError::InvalidParams(format!(
+                    "atol must be a finite number > 0, found {atol}"
+                )));
+            }
+            dopri::run(physics, release, times, rtol, atol)
+        }
+    }
 }
 
 /// RK4 integration of the state together with its forward sensitivities to the parameters of
 /// `terms` (see [`Sensitivities`] for the order), including the jump conditions at velocity
 /// reversals and at sticking. Terms outside `terms` are integrated with their coefficient from
 /// `physics` but get no sensitivity column.
+///
+/// The state part of the result is identical to `simulate` with `Method::Rk4 { max_step }`.
 pub fn simulate_with_sensitivities(
     physics: &Physics,
     release: &Release,
@@ -118,6 +147,206 @@ pub fn simulate_with_sensitivities(
     terms: DampingSet,
     max_step: f64,
 ) -> Result<(Trajectory, Sensitivities), IntegrateError> {
-    let _ = (physics, release, times, terms, max_step);
-    todo!("issue 3")
+    check_inputs(physics, release, times)?;
+    check_max_step(max_step)?;
+    let (traj, d_angle) = match terms.len() {
+        0 => rk4::run::<4>(physics, release, times, terms, max_step)?,
+        1 => rk4::run::<5>(physics, release, times, terms, max_step)?,
+        2 => rk4::run::<6>(physics, release, times, terms, max_step)?,
+        _ => rk4::run::<7>(physics, release, times, terms, max_step)?,
+    };
+    Ok((traj, Sensitivities { n_params: 1 + terms.len() + crate::model::RELEASE_PARAMS, d_angle }))
+}
+
+/// Check physics, release and times once, before any integration.
+fn check_inputs(physics: &Physics, release: &Release, times: &[f64]) -> Result<(), IntegrateError> {
+    physics.validate().map_err(IntegrateError::InvalidParams)?;
+    for (name, v) in [
+        ("equilibrium", release.equilibrium),
+        ("initial_angle", release.angle),
+        ("initial_velocity", release.velocity),
+    ] {
+        if !v.is_finite() {
+            return Err(IntegrateError::InvalidParams(format!("{name} must be finite, found {v}")));
+        }
+    }
+    for (i, t) in times.iter().enumerate() {
+        if !t.is_finite() || (i > 0 && *t <= times[i - 1]) {
+            return Err(IntegrateError::BadTimes(i));
+        }
+    }
+    Ok(())
+}
+
+fn check_max_step(max_step: f64) -> Result<(), IntegrateError> {
+    if max_step.is_finite() && max_step > 0.0 {
+        Ok(())
+    } else {
+        Err(IntegrateError::InvalidParams(format!(
+            "max_step must be a finite number > 0, found {max_step}"
+        )))
+    }
+}
+
+/// How the article moves between events.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) enum Mode {
+    /// Moving with Coulomb direction `dir` (±1): ω·dir ≥ 0 until the next event.
+    Moving(f64),
+    /// At rest for good.
+    Stuck,
+}
+
+/// The stick–slip rule at an instant where ω = 0 at angle `theta`: stick if the gravity
+/// acceleration is within the static friction level, else move the way gravity pulls.
+pub(crate) fn decide(physics: &Physics, equilibrium: f64, theta: f64) -> Mode {
+    let a_g = -physics.omega_n * physics.omega_n * (theta - equilibrium).sin();
+    if a_g.abs() <= physics.static_level() { Mode::Stuck } else { Mode::Moving(a_g.signum()) }
+}
+
+/// The mode at the release: the direction of ω0, or the stick–slip rule when ω0 = 0.
+pub(crate) fn initial_mode(physics: &Physics, release: &Release) -> Mode {
+    if release.velocity != 0.0 {
+        Mode::Moving(release.velocity.signum())
+    } else {
+        decide(physics, release.equilibrium, release.angle)
+    }
+}
+
+/// Terms of `terms` in canonical order, padded; the first `terms.len()` entries are meaningful.
+pub(crate) fn term_list(terms: DampingSet) -> [Term; 3] {
+    let mut out = [Term::Viscous; 3];
+    for (slot, t) in out.iter_mut().zip(terms.iter()) {
+        *slot = t;
+    }
+    out
+}
+
+/// Time resolution of event location [s].
+pub(crate) const EVENT_TOL: f64 = 1e-12;
+
+/// Locate the first zero of `g` on (0, h] where g is "ω·dir" after a trial step of length x.
+///
+/// `g0 = g(0) ≥ 0` and `gh = g(h) ≤ 0`. When g0 = 0 (the step starts at an event) the left end
+/// is moved in by halving until g > 0, so that a motion that reverses again within the step is
+/// still found. Then Illinois (modified regula falsi) with a bisection safeguard, until the
+/// bracket or the update is below [`EVENT_TOL`]. Returns the root estimate in [0, h]; 0 means the
+/// motion could not be resolved as leaving the start point.
+pub(crate) fn locate_zero(mut g: impl FnMut(f64) -> f64, h: f64, g0: f64, gh: f64) -> f64 {
+    if gh == 0.0 {
+        return h;
+    }
+    let (mut a, mut fa) = (0.0, g0);
+    if fa <= 0.0 {
+        // Step starts on ω = 0: find an inner point where the motion is under way.
+        let mut x = h;
+        let mut found = false;
+        for _ in 0..60 {
+            x *= 0.5;
+            let fx = g(x);
+            if fx > 0.0 {
+                a = x;
+                fa = fx;
+                found = true;
+                break;
+            }
+        }
+        if !found {
+            return 0.0;
+        }
+    }
+    let (mut b, mut fb) = (h, gh);
+    let mut side = 0i8;
+    let mut prev = f64::NAN;
+    let mut last = 0.5 * (a + b);
+    for _ in 0..200 {
+        let mut c = (a * fb - b * fa) / (fb - fa);
+        if !(c > a && c < b) {
+            c = 0.5 * (a + b);
+        }
+        let fc = g(c);
+        last = c;
+        if fc == 0.0 {
+            return c;
+        }
+        if fc > 0.0 {
+            a = c;
+            fa = fc;
+            if side == -1 {
+                fb *= 0.5;
+            }
+            side = -1;
+        } else {
+            b = c;
+            fb = fc;
+            if side == 1 {
+                fa *= 0.5;
+            }
+            side = 1;
+        }
+        if b - a <= EVENT_TOL || (c - prev).abs() <= 0.25 * EVENT_TOL {
+            break;
+        }
+        prev = c;
+    }
+    last
+}
+
+/// The right-hand side shared by both schemes: θ'' as a function of (θ, ω, dir), and for the
+/// sensitivity equations its partial derivatives. Built once per integration.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Rhs {
+    pub(crate) omega_n: f64,
+    pub(crate) wn2: f64,
+    pub(crate) equilibrium: f64,
+    pub(crate) damping: [f64; 3],
+}
+
+impl Rhs {
+    pub(crate) fn new(physics: &Physics, equilibrium: f64) -> Rhs {
+        Rhs {
+            omega_n: physics.omega_n,
+            wn2: physics.omega_n * physics.omega_n,
+            equilibrium,
+            damping: physics.damping,
+        }
+    }
+
+    /// Total damping deceleration Σ accel of the terms with a non-zero coefficient.
+    #[inline(always)]
+    pub(crate) fn damping_accel(&self, omega: f64, dir: f64) -> f64 {
+        let mut d = 0.0;
+        for t in Term::ALL {
+            let c = self.damping[t.index()];
+            if c != 0.0 {
+                d += t.accel(c, omega, dir);
+            }
+        }
+        d
+    }
+
+    /// ∂(Σ accel)/∂ω.
+    #[inline(always)]
+    pub(crate) fn damping_domega(&self, omega: f64) -> f64 {
+        let mut d = 0.0;
+        for t in Term::ALL {
+            let c = self.damping[t.index()];
+            if c != 0.0 {
+                d += t.daccel_domega(c, omega);
+            }
+        }
+        d
+    }
+
+    /// θ'' from the sine of the angle off equilibrium (so callers can share one `sin_cos`).
+    #[inline(always)]
+    pub(crate) fn accel_from_sin(&self, sin: f64, omega: f64, dir: f64) -> f64 {
+        -self.wn2 * sin - self.damping_accel(omega, dir)
+    }
+
+    /// θ'' at (θ, ω) moving in direction `dir`.
+    #[inline(always)]
+    pub(crate) fn accel(&self, theta: f64, omega: f64, dir: f64) -> f64 {
+        self.accel_from_sin((theta - self.equilibrium).sin(), omega, dir)
+    }
 }

@@ -15,9 +15,9 @@
 pub mod batch;
 pub mod cli;
 pub mod data;
+pub mod fit;
 pub mod integrate;
 pub mod model;
-pub mod fit;
 pub mod physical;
 pub mod report;
 pub mod stats;

@@ -156,7 +156,9 @@ impl DampingSet {
             }
         }
         if set.is_empty() {
-            return Err("empty damping set; expected one or more of viscous, coulomb, quadratic".into());
+            return Err(
+                "empty damping set; expected one or more of viscous, coulomb, quadratic".into()
+            );
         }
         Ok(set)
     }
@@ -249,7 +251,9 @@ impl Physics {
 
     /// The terms with non-zero coefficients.
     pub fn active_terms(&self) -> DampingSet {
-        DampingSet::from_terms(&Term::ALL.into_iter().filter(|t| self.coef(*t) != 0.0).collect::<Vec<_>>())
+        DampingSet::from_terms(
+            &Term::ALL.into_iter().filter(|t| self.coef(*t) != 0.0).collect::<Vec<_>>(),
+        )
     }
 
     /// Static friction level per unit inertia used by the stick test.

@@ -257,7 +257,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
             samples: fit.n_obs,
             convergence: format!("{:?}", fit.convergence).to_lowercase(),
             condition_number: fit.condition,
-            interval_method: fit.interval_method.to_string(),
+            interval_method: crate::report::table::interval_method_text(&fit.interval_method),
             t95: fit.t95,
         },
         correlation: Correlation {
@@ -275,4 +275,122 @@ pub fn to_pretty<T: Serialize>(doc: &T) -> String {
     let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
     s.push('\n');
     s
+}
+
+/// Schema tag of the comparison JSON.
+pub const COMPARE_SCHEMA: &str = "swingfit.compare.v1";
+
+/// One candidate on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct CandidateDoc {
+    /// Damping set.
+    pub damping: Vec<&'static str>,
+    /// `ok` or `failed`.
+    pub status: &'static str,
+    /// Why the fit failed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
+    /// RSS [rad²].
+    pub rss: f64,
+    /// Gaussian AIC.
+    pub aic: f64,
+    /// Gaussian BIC.
+    pub bic: f64,
+    /// Smallest Ljung–Box p over runs.
+    pub ljung_box_p: f64,
+    /// RMS residual [rad].
+    pub rms_residual: f64,
+    /// Largest RMS residual / noise floor over runs.
+    pub noise_ratio: f64,
+    /// Every term's 95 % interval excludes zero.
+    pub all_significant: bool,
+    /// Explains the decay to the noise floor.
+    pub explains_decay: bool,
+    /// Per-unit-inertia estimates.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub normalized: Option<Normalized>,
+    /// F-tests against nested candidates with one term fewer.
+    pub added_terms: Vec<AddedTermDoc>,
+    /// Model half-cycle peaks per run: [t s, deflection rad].
+    pub model_peaks: Vec<Vec<[f64; 2]>>,
+}
+
+/// One nested F-test.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct AddedTermDoc {
+    /// The smaller set.
+    pub from: Vec<&'static str>,
+    /// The term added.
+    pub term: &'static str,
+    /// F statistic.
+    pub f: f64,
+    /// Upper-tail p-value.
+    pub p_value: f64,
+}
+
+/// The comparison document.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct CompareDoc {
+    /// `swingfit.compare.v1`.
+    pub schema: &'static str,
+    /// The chosen set; null when no candidate explains the decay.
+    pub best: Option<Vec<&'static str>>,
+    /// Whether a candidate explains the decay.
+    pub explained: bool,
+    /// Sets indistinguishable from the best.
+    pub indistinguishable: Vec<Vec<&'static str>>,
+    /// Ranked candidates.
+    pub candidates: Vec<CandidateDoc>,
+    /// Verdict in words.
+    pub verdict: String,
+    /// Envelope laws on the measured peaks with RMS misfit [rad], best first.
+    pub envelope_laws: Vec<(&'static str, f64)>,
+    /// Measured half-cycle peaks per run: [t s, deflection rad].
+    pub measured_peaks: Vec<Vec<[f64; 2]>>,
+    /// Measured period per cycle per run: [amplitude rad, period s].
+    pub period_points: Vec<Vec<[f64; 2]>>,
+    /// Model period against amplitude: [amplitude rad, period s].
+    pub period_curve: Vec<[f64; 2]>,
+}
+
+/// Build the comparison document.
+pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
+    let peaks = |v: &Vec<Vec<crate::data::survey::Peak>>| -> Vec<Vec<[f64; 2]>> {
+        v.iter().map(|r| r.iter().map(|p| [p.t, p.deflection]).collect()).collect()
+    };
+    CompareDoc {
+        schema: COMPARE_SCHEMA,
+        best: c.best.map(|b| b.names()),
+        explained: c.explained,
+        indistinguishable: c.ties.iter().map(|t| t.names()).collect(),
+        candidates: c
+            .candidates
+            .iter()
+            .map(|e| CandidateDoc {
+                damping: e.damping.names(),
+                status: if e.fit.is_ok() { "ok" } else { "failed" },
+                reason: e.fit.as_ref().err().map(|x| x.to_string()),
+                rss: e.rss,
+                aic: e.aic,
+                bic: e.bic,
+                ljung_box_p: e.ljung_box_p,
+                rms_residual: e.rms_residual,
+                noise_ratio: e.noise_ratio,
+                all_significant: e.all_significant,
+                explains_decay: e.explains_decay,
+                normalized: e.outcome().map(|f| fit_doc(f, None).normalized),
+                added_terms: e
+                    .added_terms
+                    .iter()
+                    .map(|a| AddedTermDoc { from: a.from.names(), term: a.term.name(), f: a.f, p_value: a.p_value })
+                    .collect(),
+                model_peaks: peaks(&e.model_peaks),
+            })
+            .collect(),
+        verdict: c.verdict.clone(),
+        envelope_laws: c.envelope.laws.iter().map(|(l, r)| (l.name(), *r)).collect(),
+        measured_peaks: peaks(&c.measured_peaks),
+        period_points: c.period_points.iter().map(|r| r.iter().map(|p| [p.amplitude, p.period]).collect()).collect(),
+        period_curve: c.period_curve.iter().map(|(a, t)| [*a, *t]).collect(),
+    }
 }

@@ -115,9 +115,61 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         fit.dof
     );
     let _ = writeln!(o, "     RMS residual {} rad; condition number {}", num(fit.rms_residual(), 3), num(fit.condition, 3));
-    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", fit.interval_method, num(fit.t95, 4));
+    let _ = writeln!(o, "Intervals: {} (coverage factor t = {})", interval_method_text(&fit.interval_method), num(fit.t95, 4));
     for f in &fit.flags {
         let _ = writeln!(o, "Note: {f}");
     }
     o
+}
+
+/// The comparison table printed by `swingfit compare`.
+pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "Candidates (ranked; BIC = n ln(RSS/n) + p ln n, lower is better)");
+    let _ = writeln!(
+        o,
+        "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+        "damping", "status", "RMS rad", "AIC", "BIC", "x noise", "LB p", "sig.", "explains"
+    );
+    for e in &c.candidates {
+        if let Err(err) = &e.fit {
+            let _ = writeln!(o, "  {:<28} {:>7}  {}", e.damping.to_string(), "failed", err);
+            continue;
+        }
+        let _ = writeln!(
+            o,
+            "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+            e.damping.to_string(),
+            "ok",
+            num(e.rms_residual, 3),
+            format!("{:.1}", e.aic),
+            format!("{:.1}", e.bic),
+            format!("{:.2}", e.noise_ratio),
+            num(e.ljung_box_p, 2),
+            if e.all_significant { "yes" } else { "no" },
+            if e.explains_decay { "yes" } else { "no" }
+        );
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Envelope laws on the measured half-cycle peaks (RMS misfit in amplitude)");
+    for (law, rms) in &c.envelope.laws {
+        let _ = writeln!(o, "  {:<12} {} rad", law.name(), num(*rms, 3));
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "Verdict: {}", c.verdict);
+    o
+}
+
+/// The interval method in words.
+pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> String {
+    use crate::fit::uncertainty::IntervalMethod as M;
+    match m {
+        M::Plain => "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into(),
+        M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
+            "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
+        ),
+        M::Bootstrap { replicates, block_length, seed } => format!(
+            "moving-block bootstrap, {replicates} refits, blocks of {block_length} samples, seed {seed} (never narrower than the analytic interval)"
+        ),
+    }
 }

@@ -1,1 +1,367 @@
-//! Library tests: data.
+//! Library tests: data. The loader on in-memory text (every refusal, with its line), and the
+//! survey on analytic swings whose period, equilibrium and sample count are known exactly.
+//!
+//! Reference signals: the linear damped oscillator θ = θeq + A e^{−σt} cos(ωd t) crosses θeq
+//! exactly every π/ωd (Thomson & Dahleh §2.6 [memory], CHECKS §3); the Coulomb oscillator swings
+//! harmonically about ±Δ each half cycle with the undamped ωn and loses 2Δ per half cycle
+//! (Thomson & Dahleh §2.8 [memory], CHECKS §4).
+
+use std::f64::consts::PI;
+
+use proptest::prelude::*;
+use rand::{Rng, SeedableRng, rngs::StdRng};
+use rand_distr::{Distribution, Normal};
+use swingfit::data::survey::survey;
+use swingfit::data::{AngleLog, LoadOptions, MIN_SAMPLES, parse};
+
+/// CHECKS §3 worked example: ωd [rad/s], σ [1/s], T_d [s].
+const WD: f64 = 3.83517519156557;
+const SIGMA: f64 = 0.0375;
+const TD: f64 = 1.63830463885920;
+
+fn damped(t: f64, eq: f64, amp: f64) -> f64 {
+    eq + amp * (-SIGMA * t).exp() * (WD * t).cos()
+}
+
+fn opts() -> LoadOptions {
+    LoadOptions::default()
+}
+
+fn load(text: &str, o: &LoadOptions) -> AngleLog {
+    parse("mem.csv", text.as_bytes(), o).unwrap_or_else(|e| panic!("load failed: {e}"))
+}
+
+#[track_caller]
+fn refused(text: &str, o: &LoadOptions, line: Option<u64>, needle: &str) {
+    match parse("mem.csv", text.as_bytes(), o) {
+        Ok(_) => panic!("accepted, expected refusal with {needle:?}"),
+        Err(e) => {
+            assert_eq!(e.line, line, "line of {e}");
+            assert_eq!(e.path, "mem.csv");
+            let msg = e.to_string();
+            assert!(msg.contains(needle), "expected {needle:?} in {msg:?}");
+            assert!(!msg.contains('\n'), "one line: {msg:?}");
+        }
+    }
+}
+
+/// A good comma log in seconds and radians (header line 1, sample i on line i + 2).
+fn good_text(n: usize) -> String {
+    let mut s = String::from("time,theta\n");
+    for i in 0..n {
+        let t = 0.02 * i as f64;
+        s.push_str(&format!("{t:.4},{:.6}\n", damped(t, 0.1, 0.3)));
+    }
+    s
+}
+
+#[test]
+fn encoder_counts_in_ms_with_offset() {
+    // 2500-line quadrature encoder: 10000 edges/rev, q = 0.000628318530718 rad (CHECKS §9).
+    let cpr = 10000.0;
+    let q = 2.0 * PI / cpr;
+    let mut s = String::from("# invented rig: encoder on the pivot shaft\nt_ms;counts\n");
+    for i in 0..6000 {
+        let t = 0.01 * i as f64;
+        s.push_str(&format!("{};{}\n", (t * 1e3).round(), (damped(t, 0.4712, 0.7) / q).round()));
+    }
+    let o = LoadOptions { counts_per_rev: Some(cpr), ..opts() };
+    let log = load(&s, &o);
+    assert_eq!(log.len(), 6000);
+    assert_eq!(log.angle_step(), Some(q));
+    assert!((log.times()[1] - 0.01).abs() < 1e-15);
+    let sv = survey(&log);
+    assert_eq!(sv.samples, 6000);
+    let p = sv.period_s.unwrap_or(f64::NAN);
+    assert!((p / TD - 1.0).abs() < 2e-4, "period {p} vs {TD}");
+    assert!((sv.equilibrium_rad - 0.4712).abs() < q, "equilibrium {}", sv.equilibrium_rad);
+    assert!((sv.rate_hz - 100.0).abs() < 1e-6);
+    assert!(sv.jitter < 1e-6);
+    assert!(sv.gaps.is_empty());
+    // Widrow & Kollár (CHECKS §9 [memory]): rounding noise std is q/√12; the floor never goes below.
+    assert!(sv.noise_rad >= q / 12f64.sqrt() && sv.noise_rad < 2.0 * q, "noise {}", sv.noise_rad);
+    // Peaks alternate in sign and decay as e^{−σ t} (CHECKS §3).
+    assert!(sv.peaks.len() > 60);
+    for w in sv.peaks.windows(2) {
+        assert!(w[0].deflection * w[1].deflection < 0.0);
+    }
+    let p0 = sv.peaks[0];
+    let expect = 0.7 * (-SIGMA * p0.t).exp() * (WD * p0.t).cos();
+    assert!((p0.deflection - expect).abs() < 3.0 * q, "peak {p0:?} vs {expect}");
+    assert_eq!(sv.rest_from_s, None);
+}
+
+#[test]
+fn degrees_in_seconds_whitespace_with_noise() {
+    let mut rng = StdRng::seed_from_u64(7);
+    let noise = Normal::new(0.0, 0.02).unwrap_or_else(|e| panic!("{e}"));
+    let mut s = String::from("# whitespace table\ntime_s   angle_deg\n");
+    for i in 0..3000 {
+        let t = 0.02 * i as f64;
+        let deg = damped(t, -3.0, 25.0) + noise.sample(&mut rng);
+        s.push_str(&format!("{t:.3}   {deg:.4}\n"));
+    }
+    let log = load(&s, &opts());
+    assert_eq!(log.len(), 3000);
+    assert_eq!(log.angle_step(), None);
+    let sv = survey(&log);
+    let p = sv.period_s.unwrap_or(f64::NAN);
+    assert!((p / TD - 1.0).abs() < 2e-4, "period {p}");
+    let eq_deg = sv.equilibrium_rad.to_degrees();
+    assert!((eq_deg + 3.0).abs() < 0.02, "equilibrium {eq_deg} deg");
+    // The added noise is 0.02°; the local-quadratic residual should find it within 30 %.
+    let n_deg = sv.noise_rad.to_degrees();
+    assert!((n_deg / 0.02 - 1.0).abs() < 0.3, "noise {n_deg} deg");
+}
+
+#[test]
+fn irregular_timestamps_with_dropped_segments() {
+    let mut rng = StdRng::seed_from_u64(11);
+    let dropped = [(5.0, 5.9), (12.3, 14.6), (30.0, 30.45), (41.2, 44.0)];
+    let mut s = String::from("time_ms\tangle_rad\n");
+    let mut t = 0.0;
+    let mut n = 0;
+    while t < 60.0 {
+        if !dropped.iter().any(|&(a, b)| t >= a && t < b) {
+            s.push_str(&format!("{:.3}\t{:.7}\n", t * 1e3, damped(t, 0.05, 0.4)));
+            n += 1;
+        }
+        t += 0.01 * rng.random_range(0.6..1.4);
+    }
+    let log = load(&s, &opts());
+    assert_eq!(log.len(), n);
+    let sv = survey(&log);
+    assert_eq!(sv.gaps.len(), dropped.len(), "gaps {:?}", sv.gaps);
+    for (g, &(a, b)) in sv.gaps.iter().zip(&dropped) {
+        assert!(g.start_s < a && g.start_s + g.length_s >= b, "gap {g:?} vs {a}..{b}");
+    }
+    // No crossing is placed inside a gap.
+    for &c in &sv.crossings {
+        assert!(!dropped.iter().any(|&(a, b)| c > a && c < b), "crossing {c} in a gap");
+    }
+    let p = sv.period_s.unwrap_or(f64::NAN);
+    assert!((p / TD - 1.0).abs() < 1e-3, "period {p}");
+    assert!((sv.equilibrium_rad - 0.05).abs() < 1e-3);
+    assert!(sv.jitter > 0.1, "jitter {}", sv.jitter);
+}
+
+#[test]
+fn coulomb_equilibrium_is_not_the_rest_angle() {
+    // CHECKS §4 worked example: k = 2, J = 0.05, τc = 0.01 → Δ = 0.005 rad, ωn = 6.32455532033676,
+    // θ0 = 0.2037; 20 half cycles, rest at +0.0037 rad at t_stop = 9.93458826579610 s.
+    let (wn, delta, a0, offset) = (6.32455532033676, 0.005, 0.2037, -0.2);
+    let half = PI / wn;
+    let angle = |t: f64| -> f64 {
+        let k = (t / half).floor();
+        if k >= 20.0 {
+            return 0.0037;
+        }
+        let ak = (a0 - 2.0 * k * delta) * if k as i64 % 2 == 0 { 1.0 } else { -1.0 };
+        let ck = if k as i64 % 2 == 0 { delta } else { -delta };
+        ck + (ak - ck) * (wn * (t - k * half)).cos()
+    };
+    let mut s = String::from("t,angle\n");
+    for i in 0..1500 {
+        let t = 0.01 * i as f64;
+        s.push_str(&format!("{t:.2},{:.8}\n", offset + angle(t)));
+    }
+    let sv = survey(&load(&s, &opts()));
+    assert!(
+        (sv.equilibrium_rad - offset).abs() < 3e-4,
+        "equilibrium {} vs {offset}",
+        sv.equilibrium_rad
+    );
+    let p = sv.period_s.unwrap_or(f64::NAN);
+    assert!((p / (2.0 * half) - 1.0).abs() < 1e-3, "period {p}");
+    let rest = sv.rest_from_s.unwrap_or(f64::NAN);
+    assert!((rest - 9.93458826579610).abs() < 0.25, "rest from {rest}");
+    // Turning points lose 2Δ per half cycle (CHECKS §4).
+    let mags: Vec<f64> = sv.peaks.iter().map(|p| p.deflection.abs()).collect();
+    assert!(mags.len() >= 15, "peaks {mags:?}");
+    for w in mags.windows(2) {
+        assert!((w[0] - w[1] - 2.0 * delta).abs() < 5e-4, "decrement {w:?}");
+    }
+}
+
+#[test]
+fn columns_by_index_and_name_and_units_from_options() {
+    let mut s = String::from("stamp,volts,pos\n");
+    for i in 0..200 {
+        let t = 20.0 * i as f64;
+        s.push_str(&format!("{t},1.5,{:.5}\n", damped(t * 1e-3, 0.0, 30.0)));
+    }
+    let o = LoadOptions {
+        time_col: Some("1".into()),
+        angle_col: Some("POS".into()),
+        time_unit: Some("ms".into()),
+        angle_unit: Some("deg".into()),
+        ..opts()
+    };
+    let log = load(&s, &o);
+    assert!((log.times()[199] - 3.98).abs() < 1e-12);
+    assert!((log.angles()[0] - 30f64.to_radians()).abs() < 1e-12);
+    refused(
+        &s,
+        &LoadOptions { time_col: Some("4".into()), ..o.clone() },
+        Some(1),
+        "time column 4 does not exist",
+    );
+    refused(
+        &s,
+        &LoadOptions { angle_col: Some("phase".into()), ..o.clone() },
+        Some(1),
+        "no angle column named 'phase'",
+    );
+    refused(
+        &s,
+        &LoadOptions { angle_col: Some("1".into()), ..o },
+        Some(1),
+        "time and angle are both column 1",
+    );
+}
+
+#[test]
+fn counts_per_rev_implies_counts_and_header_units_are_read() {
+    let mut s = String::from("Time [us],Angle\n");
+    for i in 0..300 {
+        let t = 0.02 * i as f64;
+        s.push_str(&format!(
+            "{},{}\n",
+            (t * 1e6).round(),
+            (damped(t, 0.0, 0.5) / (2.0 * PI) * 4096.0).round()
+        ));
+    }
+    let log = load(&s, &LoadOptions { counts_per_rev: Some(4096.0), ..opts() });
+    assert_eq!(log.angle_step(), Some(2.0 * PI / 4096.0));
+    assert!((log.times()[50] - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn semicolon_with_decimal_commas() {
+    let text = good_text(300).replace(',', ";").replace('.', ",");
+    let log = load(&text, &opts());
+    assert_eq!(log.len(), 300);
+    assert!((log.times()[1] - 0.02).abs() < 1e-12);
+}
+
+#[test]
+fn refusals_name_the_line() {
+    refused("", &opts(), Some(1), "empty file");
+    refused("# only a note\n\n# another\n", &opts(), Some(3), "only comments");
+    refused("time,theta\n", &opts(), Some(1), "no data rows after the header (line 1)");
+    let g = good_text(300);
+    let mut lines: Vec<&str> = g.lines().collect();
+    lines[10] = "0.1800,inf";
+    refused(
+        &lines.join("\n"),
+        &opts(),
+        Some(11),
+        "expected a finite angle in rad (column 2 'theta'), found \"inf\"",
+    );
+    lines[10] = "0.1800,0.2x";
+    refused(
+        &lines.join("\n"),
+        &opts(),
+        Some(11),
+        "expected angle in rad as a number (column 2 'theta'), found \"0.2x\"",
+    );
+    let mut lines: Vec<&str> = g.lines().collect();
+    lines[20] = lines[19];
+    refused(&lines.join("\n"), &opts(), Some(21), "expected strictly increasing time");
+    refused(&good_text(MIN_SAMPLES - 1), &opts(), Some(MIN_SAMPLES as u64), "only 49 samples");
+    refused(&good_text(300).replace("theta", "omega"), &opts(), Some(1), "no angle column");
+    refused(&good_text(300).replace("time", "t,angle"), &opts(), Some(1), "ambiguous angle column");
+}
+
+#[test]
+fn dropped_rows_are_recorded() {
+    let g = good_text(300);
+    let mut lines: Vec<&str> = g.lines().collect();
+    lines[5] = "0.0800,NaN";
+    lines[99] = "garbage";
+    lines[200] = "3.9800,";
+    let log = load(&lines.join("\n"), &LoadOptions { drop_bad_rows: true, ..opts() });
+    assert_eq!(log.len(), 297);
+    assert_eq!(log.dropped_lines(), &[6, 100, 201]);
+    // All rows bad: refused, with the count.
+    refused(
+        "time,theta\nx,y\nz,w\n",
+        &LoadOptions { drop_bad_rows: true, ..opts() },
+        Some(3),
+        "after dropping 2 bad rows",
+    );
+}
+
+#[test]
+fn from_samples_applies_the_same_checks() {
+    let t: Vec<f64> = (0..300).map(|i| 0.02 * f64::from(i)).collect();
+    let a: Vec<f64> = t.iter().map(|&t| damped(t, 0.0, 0.2)).collect();
+    let log = AngleLog::from_samples("sim", t.clone(), a.clone()).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(log.len(), 300);
+    let mut bad = a.clone();
+    bad[7] = f64::NAN;
+    let e = AngleLog::from_samples("sim", t.clone(), bad).err();
+    assert_eq!(e.map(|e| (e.line, e.kind.contains("finite angle"))), Some((Some(8), true)));
+    let mut back = t.clone();
+    back[100] = back[99];
+    let e = AngleLog::from_samples("sim", back, a.clone()).err();
+    assert_eq!(e.and_then(|e| e.line), Some(101));
+    let e = AngleLog::from_samples("sim", t[..40].to_vec(), a[..40].to_vec()).err();
+    assert!(e.is_some_and(|e| e.kind.contains("only 40 samples")));
+    // Long enough but one slow lean: under two swings.
+    let lean: Vec<f64> = t.iter().map(|&t| (t / 6.0).cos()).collect();
+    let e = AngleLog::from_samples("sim", t, lean).err();
+    assert!(e.is_some_and(|e| e.kind.contains("at least two swings")));
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn parse_never_panics_on_bytes(bytes in proptest::collection::vec(any::<u8>(), 0..600)) {
+        let _ = parse("fuzz", &bytes, &LoadOptions::default());
+        let _ = parse("fuzz", &bytes, &LoadOptions { drop_bad_rows: true, counts_per_rev: Some(100.0), ..LoadOptions::default() });
+    }
+
+    #[test]
+    fn parse_never_panics_on_csv_like_text(text in "(#[ -~]{0,10}\n|[-0-9eE.,;\t nainfNA\"_msdegt]{0,30}\n){0,80}") {
+        let _ = parse("fuzz", text.as_bytes(), &LoadOptions::default());
+        let o = LoadOptions { time_col: Some("1".into()), angle_col: Some("2".into()), drop_bad_rows: true, ..LoadOptions::default() };
+        let _ = parse("fuzz", text.as_bytes(), &o);
+    }
+
+    #[test]
+    fn survey_never_panics_and_stays_sane(
+        dts in proptest::collection::vec(1e-4f64..1.0, 60..300),
+        ys in proptest::collection::vec(-1e3f64..1e3, 300),
+        gaps in proptest::collection::vec(0usize..300, 0..5),
+    ) {
+        let mut t = 0.0;
+        let mut times = Vec::new();
+        for (i, d) in dts.iter().enumerate() {
+            t += if gaps.contains(&i) { d * 100.0 } else { *d };
+            times.push(t);
+        }
+        let angles = ys[..times.len()].to_vec();
+        if let Ok(log) = AngleLog::from_samples("prop", times, angles) {
+            let sv = survey(&log);
+            prop_assert_eq!(sv.samples, log.len());
+            prop_assert!(sv.noise_rad.is_finite() && sv.noise_rad > 0.0);
+            prop_assert!(sv.equilibrium_rad >= sv.angle_range.0 && sv.equilibrium_rad <= sv.angle_range.1);
+            prop_assert!(sv.period_s.is_none_or(|p| p.is_finite() && p > 0.0));
+            prop_assert!(sv.crossings.windows(2).all(|w| w[0] < w[1]));
+        }
+    }
+}
+
+#[test]
+fn survey_of_random_walk_like_noise_is_finite() {
+    // A noisy swing with 30 % of samples jittered far: survey stays finite.
+    let mut rng = StdRng::seed_from_u64(3);
+    let t: Vec<f64> = (0..500).map(|i| 0.01 * f64::from(i)).collect();
+    let a: Vec<f64> =
+        t.iter().map(|&t| damped(t, 0.0, 0.2) + rng.random_range(-0.05..0.05)).collect();
+    let sv = survey(&AngleLog::from_samples("noisy", t, a).unwrap_or_else(|e| panic!("{e}")));
+    assert!(sv.noise_rad > 0.01 && sv.noise_rad < 0.06, "noise {}", sv.noise_rad);
+    assert!(sv.period_s.is_some_and(|p| (p / TD - 1.0).abs() < 0.02), "period {:?}", sv.period_s);
+}
