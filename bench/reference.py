@@ -141,7 +141,9 @@ def main(argv):
     lo[0] = 1e-9
     lo[1:n_phys] = 0.0
     # least_squares needs a strictly feasible start.
-    x = np.maximum(x0, lo + 1e-12 * np.maximum(1.0, np.abs(lo)))
+    finite = np.isfinite(lo)
+    x = x0.copy()
+    x[finite] = np.maximum(x0[finite], lo[finite] + 1e-12)
 
     t_fit = time.perf_counter()
     period = 2.0 * math.pi / x0[0]
