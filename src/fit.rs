@@ -233,13 +233,22 @@ pub fn fit_surveyed(
     let period = 2.0 * std::f64::consts::PI / physics0.omega_n;
     let max_step = period / 250.0;
 
-    // Continuation: windows of 3, 9, 27, … periods from each run's start, then the whole record.
+    // Continuation: windows growing 3× from each run's start and ending on the whole record,
+    // the first between 3 and 9 periods long (…, L/9, L/3, L). Ending the geometric series on
+    // the record, rather than starting it at exactly 3 periods, avoids a last window that
+    // nearly repeats the whole record (81 then 99 periods cost two full fits; see
+    // docs/performance.md) while every step still grows the window at most 3×.
     let longest = logs.iter().map(|l| l.times()[l.len() - 1] - l.times()[0]).fold(0.0, f64::max);
     let mut horizon = 3.0 * period;
+    if longest > 9.0 * period {
+        let stages = (longest / (3.0 * period)).log(3.0).floor();
+        horizon = longest / 3f64.powf(stages);
+    }
     let mut iterations_total = 0;
     let (lower, upper) = layout.bounds();
     loop {
-        let last = horizon >= longest;
+        // Tolerance: the series L/3^k · 3^k may land a rounding error short of L.
+        let last = horizon >= longest * (1.0 - 1e-9);
         let runs: Vec<RunData> = logs
             .iter()
             .map(|l| {
