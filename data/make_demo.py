@@ -33,11 +33,21 @@ def physics(eq, angle):
             "equilibrium": eq, "initial_angle": angle, "initial_velocity": 0.0}
 
 
+def write_true(name, p):
+    """The true parameters in swingfit's params format (for `simulate --params`)."""
+    import json
+    q = {k: v for k, v in p.items() if k != "breakaway"}  # breakaway = coulomb: left out
+    with open(os.path.join(HERE, f"{name}_true.json"), "w") as f:
+        json.dump(q, f, indent=2)
+        f.write("\n")
+
+
 def release60_counts():
     """250 Hz encoder log in counts, jittered timestamps in ms (stamped to the microsecond)."""
     rng = np.random.default_rng(SEED_COUNTS)
     eq = 3.7 * DEG
     p = physics(eq, eq + 60.0 * DEG)
+    write_true("ba7_release60", p)
     probe = ref.Reference(p, 0.0, 400.0)
     assert probe.stuck is not None, "the article must come to rest within 400 s"
     t_end = probe.stuck[0] + TAIL_S
@@ -67,6 +77,7 @@ def release15_deg():
     rng = np.random.default_rng(SEED_DEG)
     eq = -0.4 * DEG
     p = physics(eq, eq + 15.0 * DEG)
+    write_true("ba7_release15", p)
     n = 9001
     t = np.arange(n) / 100.0
     th, _, events = ref.simulate(p, t)

@@ -11,6 +11,7 @@ mod batch;
 mod check;
 mod compare;
 pub mod fit;
+pub mod sheet;
 mod simulate;
 
 use std::ffi::OsString;
@@ -64,6 +65,8 @@ enum Command {
     Fit(fit::FitArgs),
     /// Fit every candidate damping set and say which one explains the decay.
     Compare(compare::CompareArgs),
+    /// Fit an article and write its coefficient sheet (HTML, Markdown, JSON and plots) to a directory.
+    Sheet(sheet::SheetArgs),
     /// Fit many logs, one fit each, in parallel, and write a summary row per log.
     Batch(batch::BatchArgs),
 }
@@ -124,6 +127,7 @@ where
         Command::Simulate(a) => simulate::run(&a),
         Command::Fit(a) => fit::run(&a),
         Command::Compare(a) => compare::run(&a),
+        Command::Sheet(a) => sheet::run(&a),
         Command::Batch(a) => batch::run(&a),
     };
     match result {

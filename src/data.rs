@@ -130,9 +130,10 @@ pub fn parse(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<AngleLog, L
 /// Crossings of the midline needed for "two swings": a full swing crosses it twice.
 pub const MIN_MIDLINE_CROSSINGS: usize = 4;
 
-/// Count crossings of the midline (θmax+θmin)/2, with a hysteresis of 5 % of the range
+/// Count crossings of the midline, the median angle, with a hysteresis h of 5 % of the range
 /// (θmax−θmin) on each side, so noise alone cannot add crossings: a crossing counts only when
-/// the angle passes from below `mid − h` to above `mid + h` or back.
+/// the angle passes from below `mid − h` to above `mid + h` or back. (The median, not the
+/// midrange, because the first swing of a decaying log would pull the midrange off centre.)
 pub fn midline_crossings(angles: &[f64]) -> usize {
     let (lo, hi) = angles
         .iter()
@@ -141,7 +142,10 @@ pub fn midline_crossings(angles: &[f64]) -> usize {
     if !(range.is_finite() && range > 0.0) {
         return 0;
     }
-    let mid = 0.5 * (hi + lo);
+    let mut sorted = angles.to_vec();
+    let m = sorted.len() / 2;
+    let (_, mid, _) = sorted.select_nth_unstable_by(m, f64::total_cmp);
+    let mid = *mid;
     let h = 0.05 * range;
     let mut side = 0i8;
     let mut n = 0;

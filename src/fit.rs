@@ -121,11 +121,13 @@ pub struct FitOutcome {
     pub iterations: usize,
     /// Iterations over all continuation stages.
     pub iterations_total: usize,
-    /// Residual sum of squares [rad²].
+    /// Weighted residual sum of squares [rad²] (see problem::repeat_weights).
     pub rss: f64,
     /// Observations.
     pub n_obs: usize,
-    /// Degrees of freedom n − p.
+    /// Independent observations (repeated identical readings count once).
+    pub n_independent: usize,
+    /// Degrees of freedom: independent observations − p.
     pub dof: usize,
     /// Which criterion ended the final stage.
     pub convergence: Convergence,
@@ -145,7 +147,17 @@ impl FitOutcome {
 
     /// Overall RMS residual over every run [rad].
     pub fn rms_residual(&self) -> f64 {
-        (self.rss / self.n_obs as f64).sqrt()
+        (self.rss / self.n_independent.max(1) as f64).sqrt()
+    }
+
+    /// The fitted dynamics and their covariance, as the physical propagation takes them.
+    pub fn dynamics(&self) -> crate::physical::FittedDynamics {
+        crate::physical::FittedDynamics {
+            omega_n: self.physics.omega_n,
+            terms: self.damping,
+            damping: self.physics.damping,
+            cov: self.physics_covariance(),
+        }
     }
 
     /// Covariance of the shared physics block [ωn, fitted terms…].
@@ -232,13 +244,15 @@ pub fn fit_surveyed(
     let start = x.clone();
     let period = 2.0 * std::f64::consts::PI / physics0.omega_n;
     let max_step = period / 250.0;
+    let weights: Vec<Vec<f64>> = logs.iter().map(|l| problem::repeat_weights(l.angles())).collect();
+    let ends: Vec<usize> = logs.iter().zip(surveys).map(|(l, s)| resolved_end(l, s)).collect();
 
     // Continuation: windows growing 3× from each run's start and ending on the whole record,
     // the first between 3 and 9 periods long (…, L/9, L/3, L). Ending the geometric series on
     // the record, rather than starting it at exactly 3 periods, avoids a last window that
     // nearly repeats the whole record (81 then 99 periods cost two full fits; see
     // docs/performance.md) while every step still grows the window at most 3×.
-    let longest = logs.iter().map(|l| l.times()[l.len() - 1] - l.times()[0]).fold(0.0, f64::max);
+    let longest = logs.iter().zip(&ends).map(|(l, &e)| l.times()[e - 1] - l.times()[0]).fold(0.0, f64::max);
     let mut horizon = 3.0 * period;
     if longest > 9.0 * period {
         let stages = (longest / (3.0 * period)).log(3.0).floor();
@@ -251,10 +265,12 @@ pub fn fit_surveyed(
         let last = horizon >= longest * (1.0 - 1e-9);
         let runs: Vec<RunData> = logs
             .iter()
-            .map(|l| {
+            .zip(&weights)
+            .zip(&ends)
+            .map(|((l, w), &end)| {
                 let t0 = l.times()[0];
-                let n = if last { l.len() } else { l.times().partition_point(|t| t - t0 <= horizon).max(20) };
-                RunData { times: &l.times()[..n], angles: &l.angles()[..n], max_step }
+                let n = if last { end } else { l.times().partition_point(|t| t - t0 <= horizon).max(20).min(end) };
+                RunData { times: &l.times()[..n], angles: &l.angles()[..n], weights: &w[..n], max_step }
             })
             .collect();
         let problem = TrajectoryProblem { layout, runs };
@@ -280,6 +296,23 @@ pub fn fit_surveyed(
             return finish(logs, surveys, options, layout, &problem, sol, iterations_total, start);
         }
         horizon *= 3.0;
+    }
+}
+
+/// A swing smaller than this many encoder steps is not fitted (see [`resolved_end`]).
+pub const RESOLVED_STEPS: f64 = 10.0;
+
+/// Number of leading samples of `log` to fit: for an encoder log, the record up to the first
+/// half-cycle peak smaller than [`RESOLVED_STEPS`] encoder steps. Below that the quantisation
+/// error is a deterministic staircase locked to the motion, not noise, and the last swings and
+/// the resting tail bias the damping (measured on simulated encoder logs: docs/estimator.md).
+/// Logs in radians or degrees are fitted whole.
+pub fn resolved_end(log: &AngleLog, survey: &Survey) -> usize {
+    let Some(q) = log.angle_step() else { return log.len() };
+    let limit = RESOLVED_STEPS * q;
+    match survey.peaks.iter().find(|p| p.deflection.abs() < limit) {
+        Some(p) => log.times().partition_point(|t| *t <= p.t).clamp(crate::data::MIN_SAMPLES.min(log.len()), log.len()),
+        None => log.len(),
     }
 }
 
@@ -313,9 +346,11 @@ fn finish(
         }
     }
     let n_obs = problem.runs.iter().map(|r| r.times.len()).sum::<usize>();
+    // Independent observations: runs of repeated readings count once (see problem::repeat_weights).
+    let n_eff = problem.runs.iter().flat_map(|r| r.weights.iter()).sum::<f64>().round() as usize;
     let p = layout.n_params();
-    if n_obs <= p + 1 {
-        return Err(FitError::Setup(format!("{n_obs} samples cannot determine {p} parameters")));
+    if n_eff <= p + 1 {
+        return Err(FitError::Setup(format!("{n_eff} independent readings cannot determine {p} parameters")));
     }
     let x = sol.x.clone();
     let residuals = problem
@@ -326,7 +361,7 @@ fn finish(
         .collect::<Result<_, _>>()
         .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
     let singular = |e: uncertainty::UncertaintyError| FitError::Singular { damping: options.damping, detail: e.to_string() };
-    let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_obs).map_err(singular)?;
+    let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_eff).map_err(singular)?;
     let all_residuals: Vec<f64> = residuals.concat();
     let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05).map_err(singular)?;
     let intervals = match options.bootstrap {
@@ -364,6 +399,20 @@ fn finish(
     let physics = layout.physics(&x);
     let terms: Vec<(Term, Estimate)> =
         options.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
+    for (k, run) in problem.runs.iter().enumerate() {
+        let log = &logs[k];
+        let used = run.times.len();
+        if used < log.len() {
+            flags.push(format!(
+                "{}: the last {:.1} s ({} samples), where the swing is below {} encoder steps of {:.3e} rad, is not fitted: there the quantisation error is locked to the motion and is not noise",
+                log.source(),
+                log.times()[log.len() - 1] - run.times[used - 1],
+                log.len() - used,
+                RESOLVED_STEPS,
+                log.angle_step().unwrap_or(0.0)
+            ));
+        }
+    }
     let runs: Vec<RunFit> = (0..logs.len())
         .map(|k| {
             let o = layout.run_offset(k);
@@ -411,7 +460,8 @@ fn finish(
         iterations_total,
         rss: sol.at_min.rss,
         n_obs,
-        dof: n_obs - p,
+        n_independent: n_eff,
+        dof: n_eff - p,
         convergence: sol.convergence,
         interval_method,
         t95,

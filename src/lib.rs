@@ -12,6 +12,7 @@
 //! - [`report`] turns results into tables, JSON, plots and the coefficient sheet.
 //! - [`cli`] is the thin command line over all of it.
 
+pub mod article;
 pub mod batch;
 pub mod cli;
 pub mod data;

@@ -2,4 +2,6 @@
 
 pub mod atomic;
 pub mod json;
+pub mod plot;
+pub mod sheet;
 pub mod table;

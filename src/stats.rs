@@ -46,17 +46,62 @@ fn check_prob(p: f64) -> Result<(), StatsError> {
 }
 
 fn check_value(what: &'static str, value: f64) -> Result<(), StatsError> {
-    if value.is_finite() && value >= 0.0 { Ok(()) } else { Err(StatsError::BadValue { what, value }) }
+    if value.is_finite() && value >= 0.0 {
+        Ok(())
+    } else {
+        Err(StatsError::BadValue { what, value })
+    }
 }
 
 /// Quantile of Student's t distribution with `dof` degrees of freedom: P(T ≤ t) = `p`.
 ///
-/// `t_quantile(0.975, ν)` is the coverage factor of a two-sided 95 % interval.
+/// `t_quantile(0.975, ν)` is the coverage factor of a two-sided 95 % interval. For ν < 100 the
+/// statrs distribution function is inverted by bracketing and bisection (statrs' own inverse can
+/// loop for large ν); for ν ≥ 100 the Cornish–Fisher expansion in 1/ν through the 1/ν⁴ term is
+/// used (Abramowitz & Stegun 26.7.5 `[memory]`; agrees with scipy to 1e-12 at ν = 100, see
+/// tests/data/stats/reference.txt).
 pub fn t_quantile(p: f64, dof: f64) -> Result<f64, StatsError> {
     check_dof(dof)?;
     check_prob(p)?;
+    if dof >= 100.0 {
+        let z = normal_quantile(p);
+        let (z2, nu) = (z * z, dof);
+        let g1 = (z2 + 1.0) * z / 4.0;
+        let g2 = ((5.0 * z2 + 16.0) * z2 + 3.0) * z / 96.0;
+        let g3 = (((3.0 * z2 + 19.0) * z2 + 17.0) * z2 - 15.0) * z / 384.0;
+        let g4 = ((((79.0 * z2 + 776.0) * z2 + 1482.0) * z2 - 1920.0) * z2 - 945.0) * z / 92160.0;
+        return Ok(z + (g1 + (g2 + (g3 + g4 / nu) / nu) / nu) / nu);
+    }
     let dist = StudentsT::new(0.0, 1.0, dof).map_err(|_| StatsError::DegreesOfFreedom(dof))?;
-    Ok(dist.inverse_cdf(p))
+    let upper = invert_increasing(|t| dist.cdf(t), p.max(1.0 - p), 0.0, 1.0);
+    Ok(if p >= 0.5 { upper } else { -upper })
+}
+
+/// Standard normal quantile (statrs `erf_inv`).
+pub fn normal_quantile(p: f64) -> f64 {
+    -std::f64::consts::SQRT_2 * statrs::function::erf::erfc_inv(2.0 * p)
+}
+
+/// The x ≥ `lo` with `cdf(x)` = `p` for an increasing `cdf`: the upper end of the bracket
+/// starts at `lo + step` and doubles until it passes `p`, then bisection to full precision.
+fn invert_increasing(cdf: impl Fn(f64) -> f64, p: f64, lo: f64, step: f64) -> f64 {
+    let mut lo = lo;
+    let mut hi = lo + step;
+    for _ in 0..1100 {
+        if cdf(hi) >= p {
+            break;
+        }
+        lo = hi;
+        hi = lo + 2.0 * (hi - lo).max(step);
+    }
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if cdf(mid) < p { lo = mid } else { hi = mid }
+    }
+    0.5 * (lo + hi)
 }
 
 fn chi2(dof: f64) -> Result<ChiSquared, StatsError> {
@@ -79,7 +124,8 @@ pub fn chi2_sf(x: f64, dof: f64) -> Result<f64, StatsError> {
 /// χ² quantile: the x with P(X ≤ x) = `p`.
 pub fn chi2_quantile(p: f64, dof: f64) -> Result<f64, StatsError> {
     check_prob(p)?;
-    Ok(chi2(dof)?.inverse_cdf(p))
+    let dist = chi2(dof)?;
+    Ok(invert_increasing(|x| dist.cdf(x), p, 0.0, dof.max(1.0)))
 }
 
 fn fisher(d1: f64, d2: f64) -> Result<FisherSnedecor, StatsError> {
@@ -103,7 +149,8 @@ pub fn f_sf(x: f64, d1: f64, d2: f64) -> Result<f64, StatsError> {
 /// F quantile: the x with P(X ≤ x) = `p`.
 pub fn f_quantile(p: f64, d1: f64, d2: f64) -> Result<f64, StatsError> {
     check_prob(p)?;
-    Ok(fisher(d1, d2)?.inverse_cdf(p))
+    let dist = fisher(d1, d2)?;
+    Ok(invert_increasing(|x| dist.cdf(x), p, 0.0, 1.0))
 }
 
 /// Sample autocorrelations r_1 … r_h of `e` about its mean:
@@ -123,7 +170,13 @@ pub fn autocorrelations(e: &[f64], h: usize) -> Vec<f64> {
         return vec![0.0; h];
     }
     (1..=h)
-        .map(|k| if k >= n { 0.0 } else { c[..n - k].iter().zip(&c[k..]).map(|(a, b)| a * b).sum::<f64>() / c0 })
+        .map(|k| {
+            if k >= n {
+                0.0
+            } else {
+                c[..n - k].iter().zip(&c[k..]).map(|(a, b)| a * b).sum::<f64>() / c0
+            }
+        })
         .collect()
 }
 
@@ -166,14 +219,20 @@ impl LjungBox {
 pub fn ljung_box(e: &[f64], lags: usize, arma_params: usize) -> Result<LjungBox, StatsError> {
     let n = e.len();
     if n < 3 || lags == 0 || lags >= n {
-        return Err(StatsError::TooFew { what: "ljung-box test", needed: (lags + 1).max(3), found: n });
+        return Err(StatsError::TooFew {
+            what: "ljung-box test",
+            needed: (lags + 1).max(3),
+            found: n,
+        });
     }
     if let Some(&bad) = e.iter().find(|v| !v.is_finite()) {
         return Err(StatsError::BadValue { what: "residual", value: bad });
     }
     let r = autocorrelations(e, lags);
     let nf = n as f64;
-    let q = nf * (nf + 2.0) * r.iter().enumerate().map(|(i, rk)| rk * rk / (nf - (i + 1) as f64)).sum::<f64>();
+    let q = nf
+        * (nf + 2.0)
+        * r.iter().enumerate().map(|(i, rk)| rk * rk / (nf - (i + 1) as f64)).sum::<f64>();
     let dof = lags.saturating_sub(arma_params).max(1);
     let p_value = chi2_sf(q, dof as f64)?;
     Ok(LjungBox { q, lags, dof, p_value, rho1: r[0] })
@@ -185,7 +244,10 @@ fn check_ic(n: usize, rss: f64, p: usize) -> Result<(), StatsError> {
         return Err(StatsError::TooFew { what: "information criterion", needed: p + 1, found: n });
     }
     if rss <= 0.0 {
-        return Err(StatsError::BadValue { what: "residual sum of squares (must be positive)", value: rss });
+        return Err(StatsError::BadValue {
+            what: "residual sum of squares (must be positive)",
+            value: rss,
+        });
     }
     Ok(())
 }
@@ -232,17 +294,30 @@ pub struct FTest {
 /// observations. Exact for linear models, approximate for nonlinear ones. `[common practice]`;
 /// Bates & Watts, *Nonlinear Regression Analysis and Its Applications*, 1988, ch. 3 `[memory]`.
 /// A negative F (the larger model fitting worse, i.e. a failed fit) is clamped to 0 (p = 1).
-pub fn nested_f_test(n: usize, rss_small: f64, p_small: usize, rss_large: f64, p_large: usize) -> Result<FTest, StatsError> {
+pub fn nested_f_test(
+    n: usize,
+    rss_small: f64,
+    p_small: usize,
+    rss_large: f64,
+    p_large: usize,
+) -> Result<FTest, StatsError> {
     check_value("residual sum of squares of the small model", rss_small)?;
     check_value("residual sum of squares of the large model", rss_large)?;
     if p_large <= p_small {
-        return Err(StatsError::TooFew { what: "f-test (parameters of the larger model)", needed: p_small + 1, found: p_large });
+        return Err(StatsError::TooFew {
+            what: "f-test (parameters of the larger model)",
+            needed: p_small + 1,
+            found: p_large,
+        });
     }
     if n <= p_large {
         return Err(StatsError::TooFew { what: "f-test", needed: p_large + 1, found: n });
     }
     if rss_large <= 0.0 {
-        return Err(StatsError::BadValue { what: "residual sum of squares of the large model (must be positive)", value: rss_large });
+        return Err(StatsError::BadValue {
+            what: "residual sum of squares of the large model (must be positive)",
+            value: rss_large,
+        });
     }
     let df1 = p_large - p_small;
     let df2 = n - p_large;

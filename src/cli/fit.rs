@@ -9,29 +9,29 @@ use super::{CmdResult, Failure, LoaderArgs};
 use crate::data::AngleLog;
 use crate::fit::{self, FitOptions, FitOutcome};
 use crate::model::DampingSet;
-use crate::physical::{self, PhysicalResult};
-use crate::report::{atomic, json, table};
+use crate::physical::{self, ArticleInputs, Gravity, Measured, PhysicalCoefficients};
+use crate::report::{atomic, json, plot, table};
 
 /// The article's mass properties and the local gravity, for physical coefficients.
 #[derive(Args, Debug, Clone, Default)]
 pub struct ArticleArgs {
     /// Mass of the swinging article [kg].
-    #[arg(long, value_name = "KG")]
+    #[arg(long, value_name = "KG", allow_hyphen_values = true)]
     pub mass: Option<f64>,
     /// Standard uncertainty of the mass [kg].
-    #[arg(long, value_name = "KG", default_value_t = 0.0)]
+    #[arg(long, value_name = "KG", default_value_t = 0.0, allow_hyphen_values = true)]
     pub mass_std: f64,
     /// Distance from the pivot axis to the centre of gravity [m].
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub pivot_to_cg: Option<f64>,
     /// Standard uncertainty of the pivot-to-CG distance [m].
-    #[arg(long, value_name = "M", default_value_t = 0.0)]
+    #[arg(long, value_name = "M", default_value_t = 0.0, allow_hyphen_values = true)]
     pub pivot_to_cg_std: f64,
     /// Local gravity [m/s²] (default: standard gravity 9.80665, or from --latitude).
-    #[arg(long, value_name = "M/S2", conflicts_with = "latitude")]
+    #[arg(long, value_name = "M/S2", conflicts_with = "latitude", allow_hyphen_values = true)]
     pub gravity: Option<f64>,
     /// Standard uncertainty of --gravity [m/s²].
-    #[arg(long, value_name = "M/S2", default_value_t = 0.0)]
+    #[arg(long, value_name = "M/S2", default_value_t = 0.0, allow_hyphen_values = true)]
     pub gravity_std: f64,
     /// Geodetic latitude of the rig [deg], for normal gravity (WGS 84).
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
@@ -86,6 +86,9 @@ pub struct FitArgs {
     /// Write the fit as JSON (schema swingfit.fit.v1) to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
+    /// Draw the measured angle with the fitted model to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE.svg|FILE.png")]
+    pub plot: Option<PathBuf>,
 }
 
 /// Load every log, or fail on the first bad one.
@@ -109,7 +112,7 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
 }
 
 /// The article's physical inputs, when mass and pivot-to-CG are both given.
-pub fn article(args: &ArticleArgs) -> Result<Option<physical::Article>, Failure> {
+pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
     match (args.mass, args.pivot_to_cg) {
         (None, None) => Ok(None),
         (Some(_), None) | (None, Some(_)) => {
@@ -117,23 +120,36 @@ pub fn article(args: &ArticleArgs) -> Result<Option<physical::Article>, Failure>
         }
         (Some(m), Some(d)) => {
             let gravity = match (args.gravity, args.latitude) {
-                (Some(g), _) => physical::GravitySpec::Given { value: g, std: args.gravity_std },
-                (None, Some(lat)) => physical::GravitySpec::Normal { latitude_deg: lat, elevation_m: args.elevation },
-                (None, None) => physical::GravitySpec::Standard,
+                (Some(g), _) => Gravity::given(g, args.gravity_std),
+                (None, Some(lat)) => Gravity::at_location(lat, args.elevation, args.gravity_std),
+                (None, None) => Ok(Gravity::standard()),
+            }
+            .map_err(|e| Failure::input(format!("gravity: {e}")))?;
+            let inputs = ArticleInputs {
+                mass: Measured { value: m, u: args.mass_std },
+                pivot_to_cg: Measured { value: d, u: args.pivot_to_cg_std },
+                gravity,
+                r_mass_pivot: 0.0,
             };
-            physical::Article::new(m, args.mass_std, d, args.pivot_to_cg_std, gravity).map(Some).map_err(Failure::input)
+            physical::check_article(&inputs).map_err(Failure::input)?;
+            Ok(Some(inputs))
         }
     }
 }
 
 /// Physical coefficients of a fit.
-pub fn physical_of(fit: &FitOutcome, article: Option<&physical::Article>) -> Result<Option<PhysicalResult>, Failure> {
-    article.map(|a| physical::propagate(a, fit).map_err(Failure::rejected)).transpose()
+pub fn physical_of(fit: &FitOutcome, article: Option<&ArticleInputs>) -> Result<Option<PhysicalCoefficients>, Failure> {
+    article
+        .map(|a| physical::physical_coefficients(a, &fit.dynamics()).map_err(Failure::rejected))
+        .transpose()
 }
 
 /// Run `fit`.
 pub fn run(args: &FitArgs) -> CmdResult {
     let options = args.estimator.options()?;
+    if let Some(p) = &args.plot {
+        plot::check_chart_path(p).map_err(Failure::input)?;
+    }
     let article = article(&args.article)?;
     let logs = load_all(&args.logs, &args.loader)?;
     let outcome = fit::fit(&logs, &options).map_err(Failure::rejected)?;
@@ -142,6 +158,17 @@ pub fn run(args: &FitArgs) -> CmdResult {
         let doc = json::to_pretty(&json::fit_doc(&outcome, physical.as_ref()));
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
+    }
+    if let Some(path) = &args.plot {
+        let names: Vec<String> = logs.iter().map(|l| l.source().to_string()).collect();
+        let runs: Vec<plot::RunView<'_>> = logs
+            .iter()
+            .zip(&outcome.runs)
+            .zip(&names)
+            .map(|((l, r), n)| plot::RunView::new(n, l.times(), l.angles(), r))
+            .collect();
+        let chart = plot::fit_overlay(&runs, outcome.omega_n.value, "fit");
+        plot::write_chart(&chart, path).map_err(Failure::input)?;
     }
     print!("{}", table::fit_table(&outcome, physical.as_ref()));
     Ok(())

@@ -244,7 +244,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         return Err(err(
             Some(hline),
             format!(
-                "cannot split header \"{}\": expected at least two columns separated by commas, semicolons, tabs or spaces",
+                "header \"{}\" is a single column: expected time and angle columns separated by commas, semicolons, tabs or spaces",
                 header_text.trim()
             ),
         ));

@@ -11,6 +11,8 @@
 //!   quantisation step/√12 for counts (Widrow & Kollár, CHECKS §9 \[memory\]).
 //! - Extremes: turning points with a hysteresis of 10 noise std (or 2 encoder steps), each refined
 //!   by the parabola through the sample (or the middle of a flat top) and its two neighbours.
+//!   A log that starts still (article held, then let go) gets its first extreme at the release,
+//!   with the median angle of the still stretch before it.
 //! - Equilibrium: median over consecutive extremes of (P₋ + 2P₀ + P₊)/4, which cancels a linear
 //!   (Coulomb) decay exactly and a geometric (viscous) decay to second order, so the estimate is the
 //!   centre of the swing and not the rest angle. Fallback: the resting tail, then the mean.
@@ -19,7 +21,8 @@
 //! - Period: from crossings of each half cycle's own midline (the mean of its two bounding
 //!   extremes), which are unbiased under Coulomb as well as viscous decay (see
 //!   `midline_crossings`); the equilibrium crossings serve when there are too few. Each crossing gets an integer half-cycle number (its parity fixed by its direction),
-//!   then t = a_dir + (T/2)·k is fitted by least squares, with one round of outlier rejection.
+//!   then t = a_dir + (T/2)·k is fitted by least squares weighted by amplitude² (timing error
+//!   scales as noise/amplitude), with outlier rejection.
 //!   This is exact for a linear damped oscillator and unaffected by gaps or irregular timestamps.
 //! - Resting tail: the final stretch whose angles all lie within a band of ±5 noise std (at
 //!   least one encoder step and 0.01 % of the angle range), lasting at least 20 samples and one
@@ -70,9 +73,11 @@ pub struct Survey {
     pub noise_rad: f64,
     /// Encoder step [rad] when the angle came in counts.
     pub encoder_step_rad: Option<f64>,
-    /// Times the angle crosses the equilibrium [s].
+    /// Times the angle crosses the equilibrium [s], before any resting tail; none inside a gap.
     pub crossings: Vec<f64>,
-    /// Extreme of every half cycle, in time order.
+    /// Extreme of every half cycle, in time order, before any resting tail. Half cycles whose
+    /// extreme sits next to a gap are left out (the true extreme may lie inside the gap). When the
+    /// log starts with the article held still, the first peak is at the release.
     pub peaks: Vec<Peak>,
 }
 
@@ -267,14 +272,14 @@ fn turning_points(t: &[f64], y: &[f64], h: f64, gap_after: &[bool]) -> Vec<Extre
                     i_lo = i;
                 }
                 if y[i] < y[i_hi] - h {
-                    if i_hi > 0 {
-                        out.push(refine(t, y, i_hi, true, gap_after));
+                    if let Some(e) = first_extreme(t, y, i_hi, true, h, gap_after) {
+                        out.push(e);
                     }
                     dir = -1;
                     i_lo = (i_hi..=i).min_by(|&a, &b| y[a].total_cmp(&y[b])).unwrap_or(i);
                 } else if y[i] > y[i_lo] + h {
-                    if i_lo > 0 {
-                        out.push(refine(t, y, i_lo, false, gap_after));
+                    if let Some(e) = first_extreme(t, y, i_lo, false, h, gap_after) {
+                        out.push(e);
                     }
                     dir = 1;
                     i_hi = (i_lo..=i).max_by(|&a, &b| y[a].total_cmp(&y[b])).unwrap_or(i);
@@ -303,6 +308,35 @@ fn turning_points(t: &[f64], y: &[f64], h: f64, gap_after: &[bool]) -> Vec<Extre
         }
     }
     out
+}
+
+/// The first extreme, at sample `j`. When the samples up to `j` show no trend (at least 10, the
+/// means of their two halves within h/8) and all samples from the start to past `j` stay within
+/// h/2 of their median, the article was held (or the log began at rest) and let go: the extreme is
+/// put at the last sample of that still stretch, the release, with the median angle up to `j`.
+/// Otherwise it is refined as usual, unless it is the first sample.
+fn first_extreme(
+    t: &[f64],
+    y: &[f64],
+    j: usize,
+    is_max: bool,
+    h: f64,
+    gap_after: &[bool],
+) -> Option<Extreme> {
+    // Held means flat, not merely slow: the approach to a peak near the start trends, a hold does not.
+    let lead = &y[..=j.min(y.len() - 1)];
+    let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len().max(1) as f64;
+    let flat = lead.len() >= 10
+        && (mean(&lead[..lead.len() / 2]) - mean(&lead[lead.len() / 2..])).abs() < h / 8.0;
+    if flat {
+        let level = median(lead.to_vec());
+        let still = y.iter().take_while(|&&v| (v - level).abs() <= 0.5 * h).count();
+        if still > j {
+            let end = still - 1;
+            return Some(Extreme { index: end, t: t[end], value: level, is_max, clean: true });
+        }
+    }
+    (j > 0).then(|| refine(t, y, j, is_max, gap_after))
 }
 
 /// Refine the extreme at sample `j` (first sample of a flat top) with the parabola through the
@@ -380,6 +414,8 @@ fn resting_tail(t: &[f64], y: &[f64], band: f64, min_duration: f64) -> Option<us
 struct Crossing {
     t: f64,
     up: bool,
+    /// Weight in the period fit: timing error scales as 1/amplitude, so amplitude² (1 when unknown).
+    w: f64,
 }
 
 /// Crossings of `eq` with hysteresis `band`: from below `eq − band` to above `eq + band` or back,
@@ -411,7 +447,11 @@ fn find_crossings(t: &[f64], y: &[f64], eq: f64, band: f64, gap_after: &[bool]) 
         {
             let (d0, d1) = (y[k] - eq, y[k + 1] - eq);
             let f = if (d1 - d0).abs() > 0.0 { -d0 / (d1 - d0) } else { 0.5 };
-            out.push(Crossing { t: t[k] + f.clamp(0.0, 1.0) * (t[k + 1] - t[k]), up: s > 0 });
+            out.push(Crossing {
+                t: t[k] + f.clamp(0.0, 1.0) * (t[k + 1] - t[k]),
+                up: s > 0,
+                w: 1.0,
+            });
         }
         side = s;
     }
@@ -453,7 +493,8 @@ fn midline_crossings(
         let changes: Vec<usize> =
             (a.index..b.index).filter(|&k| (y[k] - m < 0.0) != (y[k + 1] - m < 0.0)).collect();
         if let (Some(&f), Some(&l)) = (changes.first(), changes.last()) {
-            out.push(Crossing { t: 0.5 * (at(f) + at(l)), up: !a.is_max });
+            let amp = 0.5 * (a.value - b.value).abs();
+            out.push(Crossing { t: 0.5 * (at(f) + at(l)), up: !a.is_max, w: amp * amp });
         }
     }
     out
@@ -489,14 +530,14 @@ fn period(cr: &[Crossing], gaps: &[Gap]) -> Option<f64> {
             });
             k[i] = k[i - 1] + steps;
         }
-        let fit = |keep: &[bool]| -> Option<(f64, [f64; 2], [f64; 2])> {
-            // Separate intercepts for up and down crossings, common slope.
-            let mut sum = [[0.0f64; 3]; 2]; // per direction: count, Σk, Σt
+        let fit = |keep: &[bool]| -> Option<(f64, [f64; 2])> {
+            // Weighted least squares: separate intercepts for up and down crossings, common slope.
+            let mut sum = [[0.0f64; 3]; 2]; // per direction: Σw, Σw·k, Σw·t
             for (i, c) in cr.iter().enumerate().filter(|(i, _)| keep[*i]) {
                 let g = usize::from(c.up);
-                sum[g][0] += 1.0;
-                sum[g][1] += k[i];
-                sum[g][2] += c.t;
+                sum[g][0] += c.w;
+                sum[g][1] += c.w * k[i];
+                sum[g][2] += c.w * c.t;
             }
             let mean = |g: usize| {
                 if sum[g][0] > 0.0 {
@@ -508,25 +549,25 @@ fn period(cr: &[Crossing], gaps: &[Gap]) -> Option<f64> {
             let (mut sxy, mut sxx) = (0.0, 0.0);
             for (i, c) in cr.iter().enumerate().filter(|(i, _)| keep[*i]) {
                 let (mk, mt) = mean(usize::from(c.up));
-                sxy += (k[i] - mk) * (c.t - mt);
-                sxx += (k[i] - mk) * (k[i] - mk);
+                sxy += c.w * (k[i] - mk) * (c.t - mt);
+                sxx += c.w * (k[i] - mk) * (k[i] - mk);
             }
             let b = sxy / sxx;
             let (m0, m1) = (mean(0), mean(1));
-            (b.is_finite() && b > 0.0).then_some((
-                b,
-                [m0.1 - b * m0.0, m1.1 - b * m1.0],
-                [m0.0, m1.0],
-            ))
+            (b.is_finite() && b > 0.0).then_some((b, [m0.1 - b * m0.0, m1.1 - b * m1.0]))
         };
-        let (b, a, _) = fit(&keep)?;
+        let (b, a) = fit(&keep)?;
         half = b;
         if pass == 2 {
             break;
         }
-        // One round of outlier rejection on the residuals.
-        let res: Vec<f64> =
-            cr.iter().enumerate().map(|(i, c)| c.t - a[usize::from(c.up)] - b * k[i]).collect();
+        // One round of outlier rejection on the weight-standardised residuals.
+        let wmean = cr.iter().map(|c| c.w).sum::<f64>() / cr.len() as f64;
+        let res: Vec<f64> = cr
+            .iter()
+            .enumerate()
+            .map(|(i, c)| (c.t - a[usize::from(c.up)] - b * k[i]) * (c.w / wmean).sqrt())
+            .collect();
         let spread = 1.4826 * median(res.iter().map(|r| r.abs()).collect());
         let limit = (5.0 * spread).max(1e-9 * b);
         keep = res.iter().map(|r| r.abs() <= limit).collect();

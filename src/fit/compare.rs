@@ -221,7 +221,8 @@ pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
 }
 
 fn assemble(logs: &[AngleLog], surveys: &[Survey], done: Vec<(DampingSet, Result<FitOutcome, FitError>)>) -> Comparison {
-    let n_obs: usize = logs.iter().map(|l| l.len()).sum();
+    // The independent observations are a property of the data, the same for every candidate.
+    let n_obs: usize = done.iter().find_map(|(_, r)| r.as_ref().ok().map(|f| f.n_independent)).unwrap_or(0);
     let mut cands: Vec<CandidateEvidence> = done
         .iter()
         .map(|(set, r)| match r {
@@ -346,16 +347,28 @@ pub fn envelope_fits(peaks: &[Vec<Peak>]) -> EnvelopeFits {
                 EnvelopeLaw::Linear => u,
                 EnvelopeLaw::Hyperbolic => 1.0 / u,
             };
-            let n = a.len() as f64;
+            // Weighted straight line in the transformed variable, with weights that make the
+            // misfit first-order equal to the misfit in A: (dA/du)² = A² for ln A, A⁴ for 1/A.
             let xs: Vec<f64> = (0..a.len()).map(|i| i as f64).collect();
             let ys: Vec<f64> = a.iter().map(|v| fwd(*v)).collect();
-            let mx = xs.iter().sum::<f64>() / n;
-            let my = ys.iter().sum::<f64>() / n;
-            let sxx: f64 = xs.iter().map(|x| (x - mx) * (x - mx)).sum();
-            let sxy: f64 = xs.iter().zip(&ys).map(|(x, y)| (x - mx) * (y - my)).sum();
+            let ws: Vec<f64> = a
+                .iter()
+                .map(|v| match law {
+                    EnvelopeLaw::Exponential => v * v,
+                    EnvelopeLaw::Linear => 1.0,
+                    EnvelopeLaw::Hyperbolic => v.powi(4),
+                })
+                .collect();
+            let sw: f64 = ws.iter().sum();
+            let mx = xs.iter().zip(&ws).map(|(x, w)| w * x).sum::<f64>() / sw;
+            let my = ys.iter().zip(&ws).map(|(y, w)| w * y).sum::<f64>() / sw;
+            let sxx: f64 = xs.iter().zip(&ws).map(|(x, w)| w * (x - mx) * (x - mx)).sum();
+            let sxy: f64 = xs.iter().zip(&ys).zip(&ws).map(|((x, y), w)| w * (x - mx) * (y - my)).sum();
             let slope = if sxx > 0.0 { sxy / sxx } else { 0.0 };
             for (x, v) in xs.iter().zip(&a) {
-                let pred = inv(my + slope * (x - mx));
+                let u = my + slope * (x - mx);
+                // Past the law's own end (A ≤ 0) the prediction is zero amplitude.
+                let pred = if law == EnvelopeLaw::Hyperbolic && u <= 0.0 { 0.0 } else { inv(u).max(0.0) };
                 let d = if pred.is_finite() { pred - v } else { *v };
                 ss += d * d;
                 count += 1;

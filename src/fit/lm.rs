@@ -66,7 +66,6 @@ pub struct LmSettings {
     pub gtol: f64,
 }
 
-
 impl LmSettings {
     /// Unbounded settings with default tolerances for `p` parameters.
     ///
@@ -146,7 +145,6 @@ pub enum LmError {
     Problem(String),
 }
 
-
 /// Minimise from `x0`.
 ///
 /// `x0` is first projected onto the bounds. Errors: [`LmError::Problem`] when the dimensions
@@ -154,7 +152,11 @@ pub enum LmError {
 /// cannot be linearized at an accepted point); [`LmError::Singular`] when the damped normal
 /// equations cannot be factorised even with very large damping; [`LmError::NotConverged`] when no
 /// criterion is met within `settings.max_iter` iterations.
-pub fn minimize<P: LeastSquares>(problem: &P, x0: DVector<f64>, settings: &LmSettings) -> Result<LmSolution, LmError> {
+pub fn minimize<P: LeastSquares>(
+    problem: &P,
+    x0: DVector<f64>,
+    settings: &LmSettings,
+) -> Result<LmSolution, LmError> {
     let p = problem.n_params();
     check_settings(p, &x0, settings)?;
     let mut x = project(&x0, settings);
@@ -206,15 +208,36 @@ pub fn minimize<P: LeastSquares>(problem: &P, x0: DVector<f64>, settings: &LmSet
                 lambda = lambda.max(MIN_LAMBDA);
                 nu = 2.0;
                 if actual / old <= settings.ftol && predicted / old <= settings.ftol {
-                    return Ok(finish(x, lin, iterations, evaluations, Convergence::Cost, settings));
+                    return Ok(finish(
+                        x,
+                        lin,
+                        iterations,
+                        evaluations,
+                        Convergence::Cost,
+                        settings,
+                    ));
                 }
                 if small_step {
-                    return Ok(finish(x, lin, iterations, evaluations, Convergence::Step, settings));
+                    return Ok(finish(
+                        x,
+                        lin,
+                        iterations,
+                        evaluations,
+                        Convergence::Step,
+                        settings,
+                    ));
                 }
             }
             _ => {
                 if small_step {
-                    return Ok(finish(x, lin, iterations, evaluations, Convergence::Step, settings));
+                    return Ok(finish(
+                        x,
+                        lin,
+                        iterations,
+                        evaluations,
+                        Convergence::Step,
+                        settings,
+                    ));
                 }
                 lambda *= nu;
                 nu *= 2.0;
@@ -269,7 +292,9 @@ fn check_linearization(p: usize, lin: &Linearization) -> Result<(), LmError> {
             lin.jtr.len()
         )));
     }
-    let finite = lin.rss.is_finite() && lin.jtj.iter().all(|v| v.is_finite()) && lin.jtr.iter().all(|v| v.is_finite());
+    let finite = lin.rss.is_finite()
+        && lin.jtj.iter().all(|v| v.is_finite())
+        && lin.jtr.iter().all(|v| v.is_finite());
     if !finite || lin.rss < 0.0 {
         return Err(LmError::Problem("residuals or derivatives are not finite".to_string()));
     }
@@ -313,7 +338,12 @@ fn gradient_small(lin: &Linearization, free: &[usize], gtol: f64) -> bool {
 
 /// Solve (JᵀJ + λD²)δ = −g over the free parameters (others fixed at δ = 0), equilibrated by
 /// the current column norms before the Cholesky factorisation. `None` when not positive definite.
-fn damped_step(lin: &Linearization, dm: &DVector<f64>, lambda: f64, free: &[usize]) -> Option<DVector<f64>> {
+fn damped_step(
+    lin: &Linearization,
+    dm: &DVector<f64>,
+    lambda: f64,
+    free: &[usize],
+) -> Option<DVector<f64>> {
     let k = free.len();
     let s = column_scale(&lin.jtj);
     let mut a = DMatrix::from_fn(k, k, |r, c| {

@@ -106,8 +106,32 @@ pub struct RunData<'a> {
     pub times: &'a [f64],
     /// Measured angles [rad].
     pub angles: &'a [f64],
+    /// Weight of each sample's squared residual (see [`repeat_weights`]).
+    pub weights: &'a [f64],
     /// Longest RK4 sub-step [s].
     pub max_step: f64,
+}
+
+/// Weights that count a run of identical consecutive readings as one observation.
+///
+/// An encoder (or a logger writing few digits) that reports the same value for L samples in a
+/// row, while the article dwells near a turning point or rests, gives L errors that are one
+/// and the same quantisation error, not L independent ones. Weighting each by 1/L keeps a
+/// resting tail or a slow turning point from outvoting the swing and from shrinking the
+/// intervals. Noisy readings never repeat exactly, so their weights are all 1.
+pub fn repeat_weights(angles: &[f64]) -> Vec<f64> {
+    let mut w = vec![1.0; angles.len()];
+    let mut start = 0;
+    for i in 1..=angles.len() {
+        if i == angles.len() || angles[i].to_bits() != angles[start].to_bits() {
+            let len = (i - start) as f64;
+            for v in &mut w[start..i] {
+                *v = 1.0 / len;
+            }
+            start = i;
+        }
+    }
+    w
 }
 
 /// The least-squares problem over several runs.
@@ -158,7 +182,8 @@ impl LeastSquares for TrajectoryProblem<'_> {
             .into_par_iter()
             .map(|k| {
                 let tr = self.trajectory(x, k)?;
-                Ok(tr.angle.iter().zip(self.runs[k].angles).map(|(m, y)| (m - y) * (m - y)).sum())
+                let run = &self.runs[k];
+                Ok(tr.angle.iter().zip(run.angles).zip(run.weights).map(|((m, y), w)| w * (m - y) * (m - y)).sum())
             })
             .collect();
         let rss: f64 = per_run?.iter().sum();
@@ -188,13 +213,13 @@ impl LeastSquares for TrajectoryProblem<'_> {
                 let mut rss = 0.0;
                 // Accumulate the upper triangle in a flat buffer: this loop runs once per sample.
                 let mut acc = vec![0.0; p_loc * p_loc];
-                for (i, (m, y)) in tr.angle.iter().zip(run.angles).enumerate() {
+                for (i, ((m, y), w)) in tr.angle.iter().zip(run.angles).zip(run.weights).enumerate() {
                     let r = m - y;
-                    rss += r * r;
+                    rss += w * r * r;
                     let g = &sens.d_angle[i * p_loc..(i + 1) * p_loc];
                     for a in 0..p_loc {
-                        jtr[a] += g[a] * r;
-                        let ga = g[a];
+                        jtr[a] += w * g[a] * r;
+                        let ga = w * g[a];
                         let row = &mut acc[a * p_loc..(a + 1) * p_loc];
                         for b in a..p_loc {
                             row[b] += ga * g[b];

@@ -28,7 +28,9 @@ pub const CORRELATION_LIMIT: f64 = 0.98;
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
 pub enum UncertaintyError {
     /// JᵀJ is singular or numerically so.
-    #[error("normal equations are singular (condition number {condition:e}): some parameters are not identifiable")]
+    #[error(
+        "normal equations are singular (condition number {condition:e}): some parameters are not identifiable"
+    )]
     Singular {
         /// Condition number of the scaled JᵀJ (∞ when a column is zero).
         condition: f64,
@@ -74,7 +76,11 @@ pub struct Covariance {
 pub fn scaled_inverse(jtj: &DMatrix<f64>) -> Result<(DMatrix<f64>, f64), UncertaintyError> {
     let p = jtj.nrows();
     if jtj.ncols() != p {
-        return Err(UncertaintyError::Input(format!("jtj is {}x{}, expected square", p, jtj.ncols())));
+        return Err(UncertaintyError::Input(format!(
+            "jtj is {}x{}, expected square",
+            p,
+            jtj.ncols()
+        )));
     }
     if !jtj.iter().all(|v| v.is_finite()) {
         return Err(UncertaintyError::Input("jtj has non-finite entries".to_string()));
@@ -115,7 +121,9 @@ pub fn covariance(jtj: &DMatrix<f64>, rss: f64, n: usize) -> Result<Covariance, 
         return Err(UncertaintyError::NoDegreesOfFreedom { n, p });
     }
     if !(rss.is_finite() && rss >= 0.0) {
-        return Err(UncertaintyError::Input(format!("residual sum of squares {rss} is not a finite non-negative number")));
+        return Err(UncertaintyError::Input(format!(
+            "residual sum of squares {rss} is not a finite non-negative number"
+        )));
     }
     let (inv, condition) = scaled_inverse(jtj)?;
     let dof = n - p;
@@ -199,21 +207,39 @@ pub struct IntervalSet {
     pub whiteness: Option<LjungBox>,
 }
 
-fn build(x: &DVector<f64>, std: &DVector<f64>, dof: f64, method: IntervalMethod, whiteness: Option<LjungBox>) -> Result<IntervalSet, UncertaintyError> {
+fn build(
+    x: &DVector<f64>,
+    std: &DVector<f64>,
+    dof: f64,
+    method: IntervalMethod,
+    whiteness: Option<LjungBox>,
+) -> Result<IntervalSet, UncertaintyError> {
     if x.len() != std.len() {
-        return Err(UncertaintyError::Input(format!("{} estimates but {} standard errors", x.len(), std.len())));
+        return Err(UncertaintyError::Input(format!(
+            "{} estimates but {} standard errors",
+            x.len(),
+            std.len()
+        )));
     }
     let t = stats::t_quantile(0.975, dof)?;
     let params = x
         .iter()
         .zip(std.iter())
-        .map(|(&value, &s)| ParameterInterval { value, std: s, lo: value - t * s, hi: value + t * s })
+        .map(|(&value, &s)| ParameterInterval {
+            value,
+            std: s,
+            lo: value - t * s,
+            hi: value + t * s,
+        })
         .collect();
     Ok(IntervalSet { method, dof, coverage_factor: t, params, whiteness })
 }
 
 /// Plain Student-t 95 % intervals x̂ ± t_{0.975, n−p}·SE.
-pub fn plain_intervals(x: &DVector<f64>, cov: &Covariance) -> Result<IntervalSet, UncertaintyError> {
+pub fn plain_intervals(
+    x: &DVector<f64>,
+    cov: &Covariance,
+) -> Result<IntervalSet, UncertaintyError> {
     build(x, &cov.std, cov.dof as f64, IntervalMethod::Plain, None)
 }
 
@@ -267,10 +293,18 @@ pub fn bootstrap_intervals(
 ) -> Result<IntervalSet, UncertaintyError> {
     let b = replicates.len();
     if b < 2 {
-        return Err(UncertaintyError::Input(format!("bootstrap needs at least 2 replicates, found {b}")));
+        return Err(UncertaintyError::Input(format!(
+            "bootstrap needs at least 2 replicates, found {b}"
+        )));
     }
-    if let Some(r) = replicates.iter().find(|r| r.len() != x.len() || !r.iter().all(|v| v.is_finite())) {
-        return Err(UncertaintyError::Input(format!("a bootstrap replicate has {} values or non-finite ones, expected {}", r.len(), x.len())));
+    if let Some(r) =
+        replicates.iter().find(|r| r.len() != x.len() || !r.iter().all(|v| v.is_finite()))
+    {
+        return Err(UncertaintyError::Input(format!(
+            "a bootstrap replicate has {} values or non-finite ones, expected {}",
+            r.len(),
+            x.len()
+        )));
     }
     let std = DVector::from_fn(x.len(), |j, _| {
         let mean = replicates.iter().map(|r| r[j]).sum::<f64>() / b as f64;
@@ -310,9 +344,15 @@ pub struct BlockBootstrap {
 impl BlockBootstrap {
     /// Resampler over `residuals` with the given block length and seed. Errors when the series
     /// is empty, has non-finite values, or the block length is 0 or longer than the series.
-    pub fn new(residuals: &[f64], block_length: usize, seed: u64) -> Result<BlockBootstrap, UncertaintyError> {
+    pub fn new(
+        residuals: &[f64],
+        block_length: usize,
+        seed: u64,
+    ) -> Result<BlockBootstrap, UncertaintyError> {
         if residuals.is_empty() || !residuals.iter().all(|v| v.is_finite()) {
-            return Err(UncertaintyError::Input("bootstrap residuals must be a non-empty series of finite values".to_string()));
+            return Err(UncertaintyError::Input(
+                "bootstrap residuals must be a non-empty series of finite values".to_string(),
+            ));
         }
         if block_length == 0 || block_length > residuals.len() {
             return Err(UncertaintyError::Input(format!(
@@ -320,7 +360,12 @@ impl BlockBootstrap {
                 residuals.len()
             )));
         }
-        Ok(BlockBootstrap { residuals: residuals.to_vec(), block_length, seed, rng: StdRng::seed_from_u64(seed) })
+        Ok(BlockBootstrap {
+            residuals: residuals.to_vec(),
+            block_length,
+            seed,
+            rng: StdRng::seed_from_u64(seed),
+        })
     }
 
     /// Block length in use.
@@ -382,7 +427,11 @@ fn is_damping(name: &str) -> bool {
 /// Flags for parameters the data cannot identify: each pair with |corr| > 0.98 (one flag, on the
 /// first of the pair) and each parameter whose interval half-width exceeds its |value|.
 /// `names` labels the parameters (same order as the intervals); missing names become "p<i>".
-pub fn identifiability_flags(names: &[&str], cov: &Covariance, intervals: &IntervalSet) -> Vec<Flag> {
+pub fn identifiability_flags(
+    names: &[&str],
+    cov: &Covariance,
+    intervals: &IntervalSet,
+) -> Vec<Flag> {
     let p = intervals.params.len().min(cov.corr.nrows());
     let name = |i: usize| names.get(i).map(|s| s.to_string()).unwrap_or_else(|| format!("p{i}"));
     let mut flags = Vec::new();
@@ -399,7 +448,9 @@ pub fn identifiability_flags(names: &[&str], cov: &Covariance, intervals: &Inter
                 flags.push(Flag {
                     param: i,
                     kind: FlagKind::Correlated { other: j, r },
-                    message: format!("{a} and {b} are {r:.3} correlated: the data cannot separate them; {hint}"),
+                    message: format!(
+                        "{a} and {b} are {r:.3} correlated: the data cannot separate them; {hint}"
+                    ),
                 });
             }
         }
@@ -408,7 +459,11 @@ pub fn identifiability_flags(names: &[&str], cov: &Covariance, intervals: &Inter
         let hw = iv.half_width();
         if hw > iv.value.abs() {
             let n = name(i);
-            let hint = if is_damping(&n) { "the term may be absent; try the fit without it" } else { "the data barely constrain it" };
+            let hint = if is_damping(&n) {
+                "the term may be absent; try the fit without it"
+            } else {
+                "the data barely constrain it"
+            };
             flags.push(Flag {
                 param: i,
                 kind: FlagKind::WideInterval { half_width: hw },

@@ -26,7 +26,7 @@ use serde::Serialize;
 
 use crate::fit::{Estimate, FitOutcome};
 use crate::model::Term;
-use crate::physical::PhysicalResult;
+use crate::physical::PhysicalCoefficients;
 
 /// Schema tag of the fit JSON.
 pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
@@ -57,7 +57,7 @@ impl From<&crate::physical::Quantity> for P {
     fn from(q: &crate::physical::Quantity) -> P {
         P {
             value: q.value,
-            std: q.std,
+            std: q.u_c,
             ci95: [q.value - q.expanded, q.value + q.expanded],
             unit: q.unit.to_string(),
             expanded_k2: Some(q.expanded),
@@ -90,8 +90,20 @@ pub struct Physical {
     pub inertia_cg: P,
     /// √(J/m).
     pub radius_gyration_pivot: P,
-    /// √(Jcg/m).
-    pub radius_gyration_cg: P,
+    /// √(Jcg/m) (absent when J_cg comes out negative: d or m inconsistent with the fit).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub radius_gyration_cg: Option<P>,
+    /// Small-amplitude period T0.
+    pub period: P,
+    /// Viscous damping ratio ζ = b1/(2ωn).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub damping_ratio: Option<P>,
+    /// Logarithmic decrement of the viscous term.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub log_decrement: Option<P>,
+    /// Quality factor 1/(2ζ).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub quality_factor: Option<P>,
     /// J/(m d).
     pub equivalent_length: P,
     /// c.
@@ -208,7 +220,7 @@ pub struct FitDoc {
 }
 
 /// Build the wire document of a fit.
-pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
+pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> FitDoc {
     let term = |t: Term| fit.term(t).map(P::from);
     FitDoc {
         schema: FIT_SCHEMA,
@@ -222,18 +234,18 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> FitDoc {
         physical: physical.map(|p| Physical {
             inertia_pivot: P::from(&p.inertia_pivot),
             inertia_cg: P::from(&p.inertia_cg),
-            radius_gyration_pivot: P::from(&p.radius_gyration_pivot),
-            radius_gyration_cg: P::from(&p.radius_gyration_cg),
+            radius_gyration_pivot: P::from(&p.gyration_pivot),
+            radius_gyration_cg: p.gyration_cg.as_ref().map(P::from),
             equivalent_length: P::from(&p.equivalent_length),
-            viscous: p.viscous.as_ref().map(P::from),
-            coulomb: p.coulomb.as_ref().map(P::from),
-            quadratic: p.quadratic.as_ref().map(P::from),
+            period: P::from(&p.period),
+            damping_ratio: p.damping_ratio.as_ref().map(P::from),
+            log_decrement: p.log_decrement.as_ref().map(P::from),
+            quality_factor: p.quality_factor.as_ref().map(P::from),
+            viscous: p.damping[Term::Viscous.index()].as_ref().map(P::from),
+            coulomb: p.damping[Term::Coulomb.index()].as_ref().map(P::from),
+            quadratic: p.damping[Term::Quadratic.index()].as_ref().map(P::from),
         }),
-        gravity: physical.map(|p| Gravity {
-            value: p.gravity.value,
-            std: p.gravity.std,
-            source: p.gravity.source.clone(),
-        }),
+        gravity: physical.map(|p| Gravity { value: p.gravity.value, std: p.gravity.u, source: p.gravity.describe() }),
         runs: fit
             .runs
             .iter()

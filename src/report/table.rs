@@ -5,7 +5,8 @@
 use std::fmt::Write as _;
 
 use crate::fit::{Estimate, FitOutcome};
-use crate::physical::{PhysicalResult, Quantity};
+use crate::model::Term;
+use crate::physical::{PhysicalCoefficients, Quantity};
 
 /// Format `v` with `sig` significant digits, switching to exponent form for very small or large.
 pub fn num(v: f64, sig: usize) -> String {
@@ -47,12 +48,12 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
         num(q.value, sig),
         num(q.expanded, 2),
         q.unit,
-        num(q.std, 2)
+        num(q.u_c, 2)
     );
 }
 
 /// The fit table printed by `swingfit fit`.
-pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String {
+pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "Damping model: {}   ({} run{}, {} samples)", fit.damping, fit.runs.len(), if fit.runs.len() == 1 { "" } else { "s" }, fit.n_obs);
     let _ = writeln!(o);
@@ -68,19 +69,24 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalResult>) -> String 
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
         qrow(&mut o, "moment of inertia about pivot J", &p.inertia_pivot);
         qrow(&mut o, "moment of inertia about CG J_cg", &p.inertia_cg);
-        qrow(&mut o, "radius of gyration about pivot", &p.radius_gyration_pivot);
-        qrow(&mut o, "radius of gyration about CG", &p.radius_gyration_cg);
+        qrow(&mut o, "radius of gyration about pivot", &p.gyration_pivot);
+        match &p.gyration_cg {
+            Some(q) => qrow(&mut o, "radius of gyration about CG", q),
+            None => {
+                let _ = writeln!(o, "  radius of gyration about CG        undefined: J_cg < 0 (check mass and pivot-to-CG)");
+            }
+        }
         qrow(&mut o, "equivalent pendulum length", &p.equivalent_length);
-        if let Some(q) = &p.viscous {
-            qrow(&mut o, "viscous c", q);
+        let labels = ["viscous coefficient c", "Coulomb friction torque tau_c", "quadratic coefficient c_q"];
+        for t in Term::ALL {
+            if let Some(q) = &p.damping[t.index()] {
+                qrow(&mut o, labels[t.index()], q);
+            }
         }
-        if let Some(q) = &p.coulomb {
-            qrow(&mut o, "Coulomb friction torque tau_c", q);
+        if let Some(q) = &p.damping_ratio {
+            qrow(&mut o, "viscous damping ratio zeta", q);
         }
-        if let Some(q) = &p.quadratic {
-            qrow(&mut o, "quadratic c_q", q);
-        }
-        let _ = writeln!(o, "  gravity g = {} m/s^2 ({})", num(p.gravity.value, 9), p.gravity.source);
+        let _ = writeln!(o, "  gravity: {}", p.gravity.describe());
     }
     let _ = writeln!(o);
     let _ = writeln!(o, "Runs");

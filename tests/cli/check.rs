@@ -113,7 +113,7 @@ fn unknown_delimiter_is_refused() {
         "bad_delimiter.csv",
         &[],
         Some(1),
-        "expected at least two columns separated by commas, semicolons, tabs or spaces",
+        "is a single column: expected time and angle columns separated by commas, semicolons, tabs or spaces",
     );
 }
 

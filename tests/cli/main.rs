@@ -2,6 +2,8 @@
 
 mod batch;
 mod check;
+#[path = "../browser/chromium.rs"]
+mod chromium;
 mod common;
 mod compare;
 mod fit;

@@ -1,1 +1,74 @@
-//! Library tests: compare.
+//! Library tests: model comparison. On logs where one mechanism clearly dominates, `best` must
+//! be the true set; on a log with a disturbance no candidate models, `explained` must be false.
+
+use swingfit::data::AngleLog;
+use swingfit::fit::compare::{CompareOptions, EnvelopeLaw, compare, envelope_fits};
+use swingfit::model::{DampingSet, Physics, Term};
+
+use crate::synth::{Case, physics, release, uniform};
+
+fn log(p: Physics, a0: f64, seed: u64) -> AngleLog {
+    Case { physics: p, release: release(0.01, a0), times: uniform(50.0, 50.0), noise_rad: 3e-4, counts_per_rev: None, seed }
+        .log("compare.csv")
+}
+
+fn best_of(logs: &[AngleLog]) -> (Option<DampingSet>, String) {
+    let c = compare(logs, &CompareOptions::default());
+    assert_eq!(c.candidates.len(), 7, "all seven candidates are listed");
+    (c.best, c.verdict)
+}
+
+#[test]
+fn names_viscous_alone() {
+    let (best, verdict) = best_of(&[log(physics(4.0, 0.06, 0.0, 0.0), 0.5, 11)]);
+    assert_eq!(best, Some(DampingSet::from_terms(&[Term::Viscous])), "{verdict}");
+}
+
+#[test]
+fn names_coulomb_alone() {
+    let (best, verdict) = best_of(&[log(physics(4.0, 0.0, 0.04, 0.0), 0.5, 12)]);
+    assert_eq!(best, Some(DampingSet::from_terms(&[Term::Coulomb])), "{verdict}");
+}
+
+#[test]
+fn names_quadratic_alone_at_a_large_release() {
+    let (best, verdict) = best_of(&[log(physics(4.0, 0.0, 0.0, 0.05), 1.2, 13)]);
+    assert_eq!(best, Some(DampingSet::from_terms(&[Term::Quadratic])), "{verdict}");
+}
+
+#[test]
+fn names_viscous_with_coulomb() {
+    let (best, verdict) = best_of(&[log(physics(4.0, 0.04, 0.03, 0.0), 0.6, 14)]);
+    assert_eq!(best, Some(DampingSet::from_terms(&[Term::Viscous, Term::Coulomb])), "{verdict}");
+    assert!(verdict.contains("Adding quadratic is not supported") || verdict.contains("quadratic could not be fitted"), "{verdict}");
+}
+
+#[test]
+fn a_drifting_sensor_is_explained_by_no_candidate() {
+    // A slow sensor drift of 2° over the log: no damping model describes it, so the comparison
+    // must say so instead of naming the least bad candidate.
+    let p = physics(4.0, 0.04, 0.0, 0.0);
+    let case = Case { physics: p, release: release(0.0, 0.5), times: uniform(50.0, 50.0), noise_rad: 3e-4, counts_per_rev: None, seed: 15 };
+    let clean = case.clean();
+    let drifted: Vec<f64> = case.times.iter().zip(&clean).map(|(t, a)| a + (2.0f64).to_radians() * t / 50.0).collect();
+    let mut noisy = drifted.clone();
+    swingfit::data::write::add_noise(&mut noisy, 3e-4, 15).unwrap();
+    let log = AngleLog::from_samples("drift.csv", case.times.clone(), noisy).unwrap();
+    let c = compare(&[log], &CompareOptions::default());
+    assert!(!c.explained, "{}", c.verdict);
+    assert_eq!(c.best, None);
+    assert!(c.verdict.starts_with("No candidate explains the decay"), "{}", c.verdict);
+}
+
+#[test]
+fn envelope_laws_are_told_apart() {
+    // Exact envelopes of each law (CHECKS.md §3–§5: exponential for viscous, linear for Coulomb,
+    // hyperbolic 1/A for quadratic) must each be ranked first.
+    use swingfit::data::survey::Peak;
+    let make = |f: &dyn Fn(f64) -> f64| -> Vec<Vec<Peak>> {
+        vec![(0..40).map(|n| Peak { t: n as f64 * 0.5, deflection: f(n as f64) * if n % 2 == 0 { 1.0 } else { -1.0 } }).collect()]
+    };
+    assert_eq!(envelope_fits(&make(&|n| 0.5 * (-0.03 * n).exp())).laws[0].0, EnvelopeLaw::Exponential);
+    assert_eq!(envelope_fits(&make(&|n| 0.5 - 0.01 * n)).laws[0].0, EnvelopeLaw::Linear);
+    assert_eq!(envelope_fits(&make(&|n| 1.0 / (2.0 + 0.2 * n))).laws[0].0, EnvelopeLaw::Hyperbolic);
+}

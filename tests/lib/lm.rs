@@ -10,6 +10,9 @@ use nalgebra::{DMatrix, DVector};
 use swingfit::fit::lm::{self, Convergence, LeastSquares, LmError, LmSettings, ResidualProblem};
 use swingfit::fit::uncertainty;
 
+/// Residuals and Jacobian, as the adapter's closure returns them.
+type Residuals = (DVector<f64>, DMatrix<f64>);
+
 /// Relative agreement demanded: 6 significant digits.
 const SIX_DIGITS: f64 = 1e-6;
 
@@ -34,21 +37,47 @@ where
     let settings = nist_settings(p);
     let sol = lm::minimize(problem, DVector::from_column_slice(start), &settings)
         .unwrap_or_else(|e| panic!("{} from {start_name}: {e}", cert.name));
-    let cov = uncertainty::covariance_at(&sol, problem.n_obs()).expect("covariance at the certified minimum");
+    let cov = uncertainty::covariance_at(&sol, problem.n_obs())
+        .expect("covariance at the certified minimum");
     for i in 0..p {
         let rel = (sol.x[i] - cert.values[i]).abs() / cert.values[i].abs();
-        assert!(rel < SIX_DIGITS, "{} {start_name}: b{} = {:.12e}, certified {:.10e} (rel {rel:.1e})", cert.name, i + 1, sol.x[i], cert.values[i]);
+        assert!(
+            rel < SIX_DIGITS,
+            "{} {start_name}: b{} = {:.12e}, certified {:.10e} (rel {rel:.1e})",
+            cert.name,
+            i + 1,
+            sol.x[i],
+            cert.values[i]
+        );
         let rel_s = (cov.std[i] - cert.stds[i]).abs() / cert.stds[i];
-        assert!(rel_s < SIX_DIGITS, "{} {start_name}: sd(b{}) = {:.12e}, certified {:.10e} (rel {rel_s:.1e})", cert.name, i + 1, cov.std[i], cert.stds[i]);
+        assert!(
+            rel_s < SIX_DIGITS,
+            "{} {start_name}: sd(b{}) = {:.12e}, certified {:.10e} (rel {rel_s:.1e})",
+            cert.name,
+            i + 1,
+            cov.std[i],
+            cert.stds[i]
+        );
     }
     let rel_rss = (sol.at_min.rss - cert.rss).abs() / cert.rss;
-    assert!(rel_rss < SIX_DIGITS, "{} {start_name}: rss {:.12e}, certified {:.10e}", cert.name, sol.at_min.rss, cert.rss);
+    assert!(
+        rel_rss < SIX_DIGITS,
+        "{} {start_name}: rss {:.12e}, certified {:.10e}",
+        cert.name,
+        sol.at_min.rss,
+        cert.rss
+    );
     assert!(sol.at_bound.is_empty());
 }
 
 // ---- Misra1a (NIST StRD, lower difficulty; CHECKS.md §10) ----
-const MISRA_X: [f64; 14] = [77.6, 114.9, 141.1, 190.8, 239.9, 289.0, 332.8, 378.4, 434.8, 477.3, 536.8, 593.1, 689.1, 760.0];
-const MISRA_Y: [f64; 14] = [10.07, 14.73, 17.94, 23.93, 29.61, 35.18, 40.02, 44.82, 50.76, 55.05, 61.01, 66.40, 75.47, 81.78];
+const MISRA_X: [f64; 14] = [
+    77.6, 114.9, 141.1, 190.8, 239.9, 289.0, 332.8, 378.4, 434.8, 477.3, 536.8, 593.1, 689.1, 760.0,
+];
+const MISRA_Y: [f64; 14] = [
+    10.07, 14.73, 17.94, 23.93, 29.61, 35.18, 40.02, 44.82, 50.76, 55.05, 61.01, 66.40, 75.47,
+    81.78,
+];
 const MISRA: Certified = Certified {
     name: "misra1a",
     values: &[2.3894212918E+02, 5.5015643181E-04],
@@ -56,7 +85,7 @@ const MISRA: Certified = Certified {
     rss: 1.2455138894E-01,
 };
 
-fn misra1a() -> ResidualProblem<impl Fn(&DVector<f64>) -> (DVector<f64>, DMatrix<f64>)> {
+fn misra1a() -> ResidualProblem<impl Fn(&DVector<f64>) -> Residuals> {
     ResidualProblem::new(2, 14, |b: &DVector<f64>| {
         let n = MISRA_X.len();
         let mut r = DVector::zeros(n);
@@ -85,7 +114,9 @@ fn misra1a_start2_matches_nist_certified_values() {
 fn misra1a_interval_matches_worked_example() {
     // CHECKS.md §8: b1 95 % interval 238.94212918 ± 2.17881282967 × 2.7070075241 = [233.0440665, 244.8401919].
     let p = misra1a();
-    let sol = lm::minimize(&p, DVector::from_column_slice(&[250.0, 5e-4]), &LmSettings::unbounded(2)).unwrap();
+    let sol =
+        lm::minimize(&p, DVector::from_column_slice(&[250.0, 5e-4]), &LmSettings::unbounded(2))
+            .unwrap();
     let cov = uncertainty::covariance_at(&sol, 14).unwrap();
     let iv = uncertainty::plain_intervals(&sol.x, &cov).unwrap();
     assert_eq!(iv.method, uncertainty::IntervalMethod::Plain);
@@ -96,7 +127,8 @@ fn misra1a_interval_matches_worked_example() {
 
 // ---- MGH09 (NIST StRD, higher difficulty; CHECKS.md §10) ----
 const MGH_X: [f64; 11] = [4.0, 2.0, 1.0, 0.5, 0.25, 0.167, 0.125, 0.1, 0.0833, 0.0714, 0.0625];
-const MGH_Y: [f64; 11] = [0.1957, 0.1947, 0.1735, 0.16, 0.0844, 0.0627, 0.0456, 0.0342, 0.0323, 0.0235, 0.0246];
+const MGH_Y: [f64; 11] =
+    [0.1957, 0.1947, 0.1735, 0.16, 0.0844, 0.0627, 0.0456, 0.0342, 0.0323, 0.0235, 0.0246];
 const MGH09: Certified = Certified {
     name: "mgh09",
     values: &[1.9280693458E-01, 1.9128232873E-01, 1.2305650693E-01, 1.3606233068E-01],
@@ -104,7 +136,7 @@ const MGH09: Certified = Certified {
     rss: 3.0750560385E-04,
 };
 
-fn mgh09() -> ResidualProblem<impl Fn(&DVector<f64>) -> (DVector<f64>, DMatrix<f64>)> {
+fn mgh09() -> ResidualProblem<impl Fn(&DVector<f64>) -> Residuals> {
     ResidualProblem::new(4, 11, |b: &DVector<f64>| {
         let n = MGH_X.len();
         let mut r = DVector::zeros(n);
@@ -137,23 +169,40 @@ fn mgh09_start2_matches_nist_certified_values() {
 
 // ---- Thurber (NIST StRD, higher difficulty; CHECKS.md §10) ----
 const THURBER_X: [f64; 37] = [
-    -3.067, -2.981, -2.921, -2.912, -2.840, -2.797, -2.702, -2.699, -2.633, -2.481, -2.363, -2.322, -1.501, -1.460, -1.274,
-    -1.212, -1.100, -1.046, -0.915, -0.714, -0.566, -0.545, -0.400, -0.309, -0.109, -0.103, 0.010, 0.119, 0.377, 0.790,
-    0.963, 1.006, 1.115, 1.572, 1.841, 2.047, 2.200,
+    -3.067, -2.981, -2.921, -2.912, -2.840, -2.797, -2.702, -2.699, -2.633, -2.481, -2.363, -2.322,
+    -1.501, -1.460, -1.274, -1.212, -1.100, -1.046, -0.915, -0.714, -0.566, -0.545, -0.400, -0.309,
+    -0.109, -0.103, 0.010, 0.119, 0.377, 0.790, 0.963, 1.006, 1.115, 1.572, 1.841, 2.047, 2.200,
 ];
 const THURBER_Y: [f64; 37] = [
-    80.574, 84.248, 87.264, 87.195, 89.076, 89.608, 89.868, 90.101, 92.405, 95.854, 100.696, 101.060, 401.672, 390.724,
-    567.534, 635.316, 733.054, 759.087, 894.206, 990.785, 1090.109, 1080.914, 1122.643, 1178.351, 1260.531, 1273.514,
-    1288.339, 1327.543, 1353.863, 1414.509, 1425.208, 1421.384, 1442.962, 1464.350, 1468.705, 1447.894, 1457.628,
+    80.574, 84.248, 87.264, 87.195, 89.076, 89.608, 89.868, 90.101, 92.405, 95.854, 100.696,
+    101.060, 401.672, 390.724, 567.534, 635.316, 733.054, 759.087, 894.206, 990.785, 1090.109,
+    1080.914, 1122.643, 1178.351, 1260.531, 1273.514, 1288.339, 1327.543, 1353.863, 1414.509,
+    1425.208, 1421.384, 1442.962, 1464.350, 1468.705, 1447.894, 1457.628,
 ];
 const THURBER: Certified = Certified {
     name: "thurber",
-    values: &[1.2881396800E+03, 1.4910792535E+03, 5.8323836877E+02, 7.5416644291E+01, 9.6629502864E-01, 3.9797285797E-01, 4.9727297349E-02],
-    stds: &[4.6647963344E+00, 3.9571156086E+01, 2.8698696102E+01, 5.5675370270E+00, 3.1333340687E-02, 1.4984928198E-02, 6.5842344623E-03],
+    values: &[
+        1.2881396800E+03,
+        1.4910792535E+03,
+        5.8323836877E+02,
+        7.5416644291E+01,
+        9.6629502864E-01,
+        3.9797285797E-01,
+        4.9727297349E-02,
+    ],
+    stds: &[
+        4.6647963344E+00,
+        3.9571156086E+01,
+        2.8698696102E+01,
+        5.5675370270E+00,
+        3.1333340687E-02,
+        1.4984928198E-02,
+        6.5842344623E-03,
+    ],
     rss: 5.6427082397E+03,
 };
 
-fn thurber() -> ResidualProblem<impl Fn(&DVector<f64>) -> (DVector<f64>, DMatrix<f64>)> {
+fn thurber() -> ResidualProblem<impl Fn(&DVector<f64>) -> Residuals> {
     ResidualProblem::new(7, 37, |b: &DVector<f64>| {
         let n = THURBER_X.len();
         let mut r = DVector::zeros(n);
@@ -187,10 +236,16 @@ fn thurber_start2_matches_nist_certified_values() {
 #[test]
 fn thurber_condition_number_is_reported_after_scaling() {
     let p = thurber();
-    let sol = lm::minimize(&p, DVector::from_column_slice(THURBER.values), &LmSettings::unbounded(7)).unwrap();
+    let sol =
+        lm::minimize(&p, DVector::from_column_slice(THURBER.values), &LmSettings::unbounded(7))
+            .unwrap();
     let cov = uncertainty::covariance_at(&sol, 37).unwrap();
     // The raw JᵀJ spans many decades; the column-scaled one is still ill-conditioned but invertible.
-    assert!(cov.condition > 1e3 && cov.condition < uncertainty::MAX_CONDITION, "condition {:e}", cov.condition);
+    assert!(
+        cov.condition > 1e3 && cov.condition < uncertainty::MAX_CONDITION,
+        "condition {:e}",
+        cov.condition
+    );
     // Correlations are bounded and the diagonal is exactly 1.
     for i in 0..7 {
         assert!((cov.corr[(i, i)] - 1.0).abs() < 1e-15);
@@ -203,7 +258,7 @@ fn thurber_condition_number_is_reported_after_scaling() {
 // ---- bounds, scaling, reporting ----
 
 /// r_i = x_i − target_i: minimum at the target, a bound can be made active.
-fn shifted(target: Vec<f64>) -> ResidualProblem<impl Fn(&DVector<f64>) -> (DVector<f64>, DMatrix<f64>)> {
+fn shifted(target: Vec<f64>) -> ResidualProblem<impl Fn(&DVector<f64>) -> Residuals> {
     let p = target.len();
     ResidualProblem::new(p, p, move |x: &DVector<f64>| {
         (DVector::from_fn(p, |i, _| x[i] - target[i]), DMatrix::identity(p, p))
@@ -248,11 +303,16 @@ fn badly_scaled_parameters_converge_and_report_the_criterion() {
         }
         (r, j)
     });
-    let sol = lm::minimize(&p, DVector::from_column_slice(&[1.0e4, 1.0e-4]), &LmSettings::unbounded(2)).unwrap();
+    let sol =
+        lm::minimize(&p, DVector::from_column_slice(&[1.0e4, 1.0e-4]), &LmSettings::unbounded(2))
+            .unwrap();
     assert!((sol.x[0] / 2.5e4 - 1.0).abs() < 1e-9, "a = {}", sol.x[0]);
     assert!((sol.x[1] / 3.0e-4 - 1.0).abs() < 1e-9, "k = {}", sol.x[1]);
     // Zero-residual problem: the gradient criterion (or a vanishing step) must be what fired.
-    assert!(matches!(sol.convergence, Convergence::Gradient | Convergence::Step | Convergence::Cost));
+    assert!(matches!(
+        sol.convergence,
+        Convergence::Gradient | Convergence::Step | Convergence::Cost
+    ));
     assert!(sol.evaluations >= sol.iterations);
 }
 
@@ -265,7 +325,8 @@ fn zero_column_does_not_break_the_scaling() {
         j.column_mut(0).fill(1.0);
         (r, j)
     });
-    let sol = lm::minimize(&p, DVector::from_column_slice(&[10.0, 7.0]), &LmSettings::unbounded(2)).unwrap();
+    let sol = lm::minimize(&p, DVector::from_column_slice(&[10.0, 7.0]), &LmSettings::unbounded(2))
+        .unwrap();
     assert!((sol.x[0] - 1.0).abs() < 1e-9);
     assert!((sol.x[1] - 7.0).abs() < 1e-15, "untouched parameter moved to {}", sol.x[1]);
     // But its covariance cannot exist.
@@ -277,21 +338,31 @@ fn zero_column_does_not_break_the_scaling() {
 fn iteration_limit_gives_not_converged() {
     let mut settings = LmSettings::unbounded(4);
     settings.max_iter = 2;
-    let err = lm::minimize(&mgh09(), DVector::from_column_slice(&[25.0, 39.0, 41.5, 39.0]), &settings).unwrap_err();
+    let err =
+        lm::minimize(&mgh09(), DVector::from_column_slice(&[25.0, 39.0, 41.5, 39.0]), &settings)
+            .unwrap_err();
     assert!(matches!(err, LmError::NotConverged { iterations: 2, .. }), "{err:?}");
 }
 
 #[test]
 fn problem_errors_are_typed_not_panics() {
     // Wrong start length.
-    let err = lm::minimize(&misra1a(), DVector::from_column_slice(&[1.0]), &LmSettings::unbounded(2)).unwrap_err();
+    let err =
+        lm::minimize(&misra1a(), DVector::from_column_slice(&[1.0]), &LmSettings::unbounded(2))
+            .unwrap_err();
     assert!(matches!(err, LmError::Problem(_)));
     // Inconsistent bounds.
     let s = LmSettings::unbounded(2).with_lower(0, 5.0).with_upper(0, 1.0);
-    assert!(matches!(lm::minimize(&misra1a(), DVector::from_column_slice(&[250.0, 5e-4]), &s), Err(LmError::Problem(_))));
+    assert!(matches!(
+        lm::minimize(&misra1a(), DVector::from_column_slice(&[250.0, 5e-4]), &s),
+        Err(LmError::Problem(_))
+    ));
     // Model that cannot be evaluated at the start.
-    let bad = ResidualProblem::new(1, 1, |x: &DVector<f64>| (DVector::from_element(1, x[0].ln()), DMatrix::from_element(1, 1, 1.0 / x[0])));
-    let err = lm::minimize(&bad, DVector::from_column_slice(&[-1.0]), &LmSettings::unbounded(1)).unwrap_err();
+    let bad = ResidualProblem::new(1, 1, |x: &DVector<f64>| {
+        (DVector::from_element(1, x[0].ln()), DMatrix::from_element(1, 1, 1.0 / x[0]))
+    });
+    let err = lm::minimize(&bad, DVector::from_column_slice(&[-1.0]), &LmSettings::unbounded(1))
+        .unwrap_err();
     assert!(matches!(err, LmError::Problem(_)), "{err:?}");
 }
 
@@ -299,8 +370,170 @@ fn problem_errors_are_typed_not_panics() {
 fn trial_points_where_the_model_fails_are_rejected_not_fatal() {
     // r = ln(x) − ln(0.01): large steps from x = 1 land at x ≤ 0 (NaN residual) and must be rejected.
     let p = ResidualProblem::new(1, 1, |x: &DVector<f64>| {
-        (DVector::from_element(1, x[0].ln() - 0.01f64.ln()), DMatrix::from_element(1, 1, 1.0 / x[0]))
+        (
+            DVector::from_element(1, x[0].ln() - 0.01f64.ln()),
+            DMatrix::from_element(1, 1, 1.0 / x[0]),
+        )
     });
-    let sol = lm::minimize(&p, DVector::from_column_slice(&[1.0]), &LmSettings::unbounded(1)).unwrap();
+    let sol =
+        lm::minimize(&p, DVector::from_column_slice(&[1.0]), &LmSettings::unbounded(1)).unwrap();
     assert!((sol.x[0] - 0.01).abs() < 1e-12, "x = {}", sol.x[0]);
+}
+
+// ---- uncertainty: widening, bootstrap, flags ----
+
+use rand::{SeedableRng, rngs::StdRng};
+use rand_distr::{Distribution, Normal};
+use uncertainty::{BlockBootstrap, Covariance, FlagKind, IntervalMethod};
+
+fn white(n: usize, seed: u64) -> Vec<f64> {
+    let mut rng = StdRng::seed_from_u64(seed);
+    let normal = Normal::new(0.0, 1.0).unwrap();
+    (0..n).map(|_| normal.sample(&mut rng)).collect()
+}
+
+fn ar1(n: usize, rho: f64, seed: u64) -> Vec<f64> {
+    let e = white(n, seed);
+    let mut out = Vec::with_capacity(n);
+    let mut prev = 0.0;
+    for v in e {
+        prev = rho * prev + v;
+        out.push(prev);
+    }
+    out
+}
+
+fn unit_covariance(n: usize, std: &[f64], corr: DMatrix<f64>) -> Covariance {
+    let p = std.len();
+    let cov = DMatrix::from_fn(p, p, |i, j| corr[(i, j)] * std[i] * std[j]);
+    Covariance {
+        n,
+        dof: n - p,
+        s2: 1.0,
+        cov,
+        std: DVector::from_column_slice(std),
+        corr,
+        condition: 1.0,
+    }
+}
+
+#[test]
+fn effective_sample_size_follows_the_ar1_rule() {
+    // n_eff = n(1 − ρ)/(1 + ρ) [common practice; Bretherton et al. 1999 [memory]].
+    assert!((uncertainty::effective_sample_size(300, 0.5) - 100.0).abs() < 1e-12);
+    assert!((uncertainty::effective_sample_size(300, -0.3) - 300.0).abs() < 1e-12);
+    assert!((uncertainty::effective_sample_size(300, 1.0) - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn correlated_residuals_widen_intervals_by_effective_sample_size() {
+    let res = ar1(2000, 0.8, 7);
+    let x = DVector::from_column_slice(&[1.0, 2.0]);
+    let cov = unit_covariance(2000, &[0.1, 0.2], DMatrix::identity(2, 2));
+    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
+    let IntervalMethod::EffectiveSampleSize { rho1, n_eff, factor } = iv.method else {
+        panic!("expected widening, got {:?}", iv.method);
+    };
+    assert!((rho1 - 0.8).abs() < 0.05, "rho1 {rho1}");
+    assert!((n_eff - 2000.0 * (1.0 - rho1) / (1.0 + rho1)).abs() < 1e-9);
+    assert!((factor - ((1.0 + rho1) / (1.0 - rho1)).sqrt()).abs() < 1e-12);
+    assert!((iv.params[1].std - 0.2 * factor).abs() < 1e-12);
+    let t = swingfit::stats::t_quantile(0.975, n_eff - 2.0).unwrap();
+    assert!((iv.params[1].half_width() - t * 0.2 * factor).abs() < 1e-12);
+    assert!(iv.whiteness.as_ref().unwrap().p_value < 1e-10);
+}
+
+#[test]
+fn white_residuals_keep_plain_intervals() {
+    let res = white(2000, 11);
+    let x = DVector::from_column_slice(&[1.0]);
+    let cov = unit_covariance(2000, &[0.1], DMatrix::identity(1, 1));
+    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
+    assert_eq!(iv.method, IntervalMethod::Plain, "p = {}", iv.whiteness.as_ref().unwrap().p_value);
+    assert!((iv.params[0].std - 0.1).abs() < 1e-15);
+}
+
+#[test]
+fn moving_block_bootstrap_resamples_whole_blocks_reproducibly() {
+    let res: Vec<f64> = (0..100).map(|i| i as f64).collect();
+    let mut a = BlockBootstrap::new(&res, 7, 42).unwrap();
+    let mut b = BlockBootstrap::new(&res, 7, 42).unwrap();
+    let mut c = BlockBootstrap::new(&res, 7, 43).unwrap();
+    let (sa, sb, sc) = (a.sample(), b.sample(), c.sample());
+    assert_eq!(sa, sb);
+    assert_ne!(sa, sc);
+    assert_eq!(sa.len(), 100);
+    // Every block of 7 is a run of consecutive values of the original series.
+    for block in sa.as_slice().chunks(7) {
+        assert!(block.windows(2).all(|w| (w[1] - w[0] - 1.0).abs() < 1e-12), "{block:?}");
+        assert!(block[0] >= 0.0 && block[0] <= 93.0);
+    }
+    // Successive draws differ.
+    assert_ne!(a.sample(), sa);
+    assert!(BlockBootstrap::new(&res, 0, 1).is_err());
+    assert!(BlockBootstrap::new(&res, 101, 1).is_err());
+    assert!(BlockBootstrap::new(&[], 1, 1).is_err());
+}
+
+#[test]
+fn block_length_rule_grows_with_correlation_time() {
+    // White noise: ⌈n^{1/3}⌉ = 10 for n = 1000; AR(1) with ρ = 0.98: correlation time ≈ 1/(1−ρ) ≈ 50.
+    assert_eq!(uncertainty::block_length_rule(&white(1000, 3)), 10);
+    let l = uncertainty::block_length_rule(&ar1(20_000, 0.98, 5));
+    assert!((30..=80).contains(&l), "block length {l}");
+}
+
+#[test]
+fn bootstrap_intervals_use_replicate_scatter() {
+    let x = DVector::from_column_slice(&[1.0, 10.0]);
+    let reps: Vec<DVector<f64>> = [0.9, 1.0, 1.1]
+        .iter()
+        .map(|&v| DVector::from_column_slice(&[v, 10.0 + 2.0 * (v - 1.0)]))
+        .collect();
+    let iv = uncertainty::bootstrap_intervals(&x, &reps, 50.0, 12, 9).unwrap();
+    assert_eq!(iv.method, IntervalMethod::Bootstrap { replicates: 3, block_length: 12, seed: 9 });
+    assert!((iv.params[0].std - 0.1).abs() < 1e-12);
+    assert!((iv.params[1].std - 0.2).abs() < 1e-12);
+    assert!(uncertainty::bootstrap_intervals(&x, &reps[..1], 50.0, 12, 9).is_err());
+}
+
+#[test]
+fn flags_name_inseparable_and_unconstrained_parameters() {
+    let names = ["omega_n", "coulomb", "quadratic"];
+    let mut corr = DMatrix::identity(3, 3);
+    corr[(1, 2)] = 0.993;
+    corr[(2, 1)] = 0.993;
+    let cov = unit_covariance(500, &[0.001, 0.01, 0.02], corr);
+    let x = DVector::from_column_slice(&[3.0, 0.05, 0.01]);
+    let iv = uncertainty::plain_intervals(&x, &cov).unwrap();
+    let flags = uncertainty::identifiability_flags(&names, &cov, &iv);
+    assert_eq!(flags.len(), 2, "{flags:?}");
+    assert_eq!(
+        flags[0].message,
+        "coulomb and quadratic are 0.993 correlated: the data cannot separate them; a second release at a clearly different amplitude would"
+    );
+    assert_eq!(flags[0].kind, FlagKind::Correlated { other: 2, r: 0.993 });
+    assert_eq!(flags[1].param, 2);
+    assert!(matches!(flags[1].kind, FlagKind::WideInterval { .. }));
+    assert!(
+        flags[1].message.starts_with("quadratic is not identified: its 95 % interval"),
+        "{}",
+        flags[1].message
+    );
+}
+
+#[test]
+fn covariance_needs_degrees_of_freedom() {
+    let jtj = DMatrix::identity(3, 3);
+    assert!(matches!(
+        uncertainty::covariance(&jtj, 1.0, 3),
+        Err(uncertainty::UncertaintyError::NoDegreesOfFreedom { n: 3, p: 3 })
+    ));
+    assert!(uncertainty::covariance(&jtj, f64::NAN, 10).is_err());
+    let c =
+        uncertainty::covariance(&DMatrix::from_row_slice(2, 2, &[4.0, 0.0, 0.0, 0.25]), 8.0, 10)
+            .unwrap();
+    // s² = 8/8 = 1; Cov = diag(1/4, 4).
+    assert!((c.std[0] - 0.5).abs() < 1e-15 && (c.std[1] - 2.0).abs() < 1e-15);
+    assert!((c.condition - 1.0).abs() < 1e-12);
 }

@@ -1,5 +1,7 @@
 //! Library-level tests, one module per stage, checked against outside sources where named.
 
+#[path = "../browser/chromium.rs"]
+mod chromium;
 mod compare;
 mod data;
 mod fit;
@@ -9,3 +11,4 @@ mod physical;
 mod reference;
 mod report;
 mod stats;
+mod synth;

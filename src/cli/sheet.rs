@@ -1,0 +1,251 @@
+//! `swingfit sheet ARTICLE.toml --out DIR` or `swingfit sheet LOG… --out DIR`: fit an article and
+//! write its coefficient sheet (HTML, Markdown, JSON and every plot) into a new directory.
+//!
+//! Everything that can be refused is refused before any output exists: the article file, the
+//! logs, an existing DIR without `--force`, a rejected fit. The sheet is then built beside DIR
+//! and renamed into place whole.
+
+use std::path::{Path, PathBuf};
+
+use clap::Args;
+
+use super::fit::{ArticleArgs, EstimatorArgs, article, load_all, physical_of};
+use super::{CmdResult, Failure, LoaderArgs};
+use crate::article::{self as article_file, DampingChoice};
+use crate::data::AngleLog;
+use crate::fit::compare::{self, CompareOptions, Comparison};
+use crate::fit::{self, FitOptions, FitOutcome};
+use crate::model::DampingSet;
+use crate::report::plot::RunView;
+use crate::report::sheet::{self, Identity, InputDigest, Provenance, SheetInput};
+
+/// Arguments of `sheet`.
+#[derive(Args, Debug)]
+pub struct SheetArgs {
+    /// One article file (.toml), or the logs of one article (CSV).
+    #[arg(required = true, value_name = "ARTICLE.toml|LOG")]
+    pub inputs: Vec<PathBuf>,
+    /// Directory to create for the sheet.
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Replace DIR whole if it exists.
+    #[arg(long)]
+    pub force: bool,
+    /// Name of the article on the sheet (logs mode; the article file has its own).
+    #[arg(long, value_name = "NAME")]
+    pub article: Option<String>,
+    /// Compare every damping set and fit the one the comparison picks.
+    #[arg(long)]
+    pub compare: bool,
+    /// Loader options (logs mode).
+    #[command(flatten)]
+    pub loader: LoaderArgs,
+    /// Estimator options (`--damping auto` compares, like `--compare`).
+    #[command(flatten)]
+    pub estimator: EstimatorArgs,
+    /// Mass properties and gravity (logs mode).
+    #[command(flatten)]
+    pub mass: ArticleArgs,
+}
+
+/// What the inputs resolve to before any log is read.
+struct Plan {
+    identity: Identity,
+    physical: Option<crate::physical::ArticleInputs>,
+    /// (path, loader options, label) of every log.
+    logs: Vec<(PathBuf, LoaderArgs, String)>,
+    damping: DampingChoice,
+    article_file: Option<PathBuf>,
+}
+
+fn is_article_file(p: &Path) -> bool {
+    p.extension().is_some_and(|e| e.eq_ignore_ascii_case("toml"))
+}
+
+fn loader_of(o: &crate::data::LoadOptions) -> LoaderArgs {
+    LoaderArgs {
+        time_col: o.time_col.clone(),
+        angle_col: o.angle_col.clone(),
+        time_unit: o.time_unit.clone(),
+        angle_unit: o.angle_unit.clone(),
+        counts_per_rev: o.counts_per_rev,
+        drop_bad_rows: o.drop_bad_rows,
+    }
+}
+
+fn file_label(p: &Path) -> String {
+    p.file_name().map_or_else(|| p.display().to_string(), |n| n.to_string_lossy().into_owned())
+}
+
+fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
+    let auto_flag = args.compare || args.estimator.damping.trim().eq_ignore_ascii_case("auto");
+    match args.inputs.as_slice() {
+        [one] if is_article_file(one) => {
+            if args.mass.mass.is_some() || args.mass.pivot_to_cg.is_some() || args.article.is_some()
+            {
+                return Err(Failure::input(format!(
+                    "{}: the article file gives the name, mass and pivot-to-CG; drop --article, --mass and --pivot-to-cg",
+                    one.display()
+                )));
+            }
+            let spec = article_file::load(one).map_err(Failure::input)?;
+            let damping = if auto_flag { DampingChoice::Auto } else { spec.damping };
+            Ok(Plan {
+                identity: Identity {
+                    id: spec.id.clone(),
+                    name: spec.name.clone(),
+                    description: spec.description.clone(),
+                    rig: spec.rig.clone(),
+                    operator: spec.operator.clone(),
+                    notes: spec.notes.clone(),
+                    mass: Some((spec.physical.mass.value, spec.physical.mass.u)),
+                    pivot_to_cg: Some((spec.physical.pivot_to_cg.value, spec.physical.pivot_to_cg.u)),
+                    gravity: Some(spec.gravity_words.clone()),
+                },
+                logs: spec
+                    .runs
+                    .iter()
+                    .map(|r| {
+                        (
+                            r.log.clone(),
+                            loader_of(&r.load),
+                            r.label.clone().unwrap_or_else(|| file_label(&r.log)),
+                        )
+                    })
+                    .collect(),
+                physical: Some(spec.physical),
+                damping,
+                article_file: Some(one.clone()),
+            })
+        }
+        paths => {
+            if let Some(p) = paths.iter().find(|p| is_article_file(p)) {
+                return Err(Failure::input(format!(
+                    "{}: an article file must be the only input (logs are listed inside it)",
+                    p.display()
+                )));
+            }
+            let physical = article(&args.mass)?;
+            let damping = if auto_flag {
+                DampingChoice::Auto
+            } else {
+                DampingChoice::Terms(args.estimator.options()?.damping)
+            };
+            let name = args.article.clone().unwrap_or_else(|| "unnamed article".into());
+            Ok(Plan {
+                identity: Identity {
+                    id: name.clone(),
+                    name,
+                    mass: physical.as_ref().map(|a| (a.mass.value, a.mass.u)),
+                    pivot_to_cg: physical.as_ref().map(|a| (a.pivot_to_cg.value, a.pivot_to_cg.u)),
+                    gravity: physical.as_ref().map(|a| a.gravity.describe()),
+                    ..Identity::default()
+                },
+                logs: paths
+                    .iter()
+                    .map(|p| (p.clone(), args.loader.clone(), file_label(p)))
+                    .collect(),
+                physical,
+                damping,
+                article_file: None,
+            })
+        }
+    }
+}
+
+/// Fit the chosen damping, or compare and fit the winner.
+fn fit_plan(
+    logs: &[AngleLog],
+    choice: DampingChoice,
+    base: FitOptions,
+) -> Result<(FitOutcome, Option<Comparison>), Failure> {
+    match choice {
+        DampingChoice::Terms(set) => {
+            let outcome =
+                fit::fit(logs, &FitOptions { damping: set, ..base }).map_err(Failure::rejected)?;
+            Ok((outcome, None))
+        }
+        DampingChoice::Auto => {
+            let options =
+                CompareOptions { candidates: DampingSet::all_nonempty(), fit: base.clone() };
+            let c = compare::compare(logs, &options);
+            let Some(best) = c.best else {
+                return Err(Failure::rejected(format!(
+                    "no damping set explains the decay: {}",
+                    c.verdict
+                )));
+            };
+            let found = c
+                .candidates
+                .iter()
+                .find(|e| e.damping == best)
+                .and_then(|e| e.fit.as_ref().ok())
+                .cloned();
+            let outcome = match found {
+                Some(f) => f,
+                None => fit::fit(logs, &FitOptions { damping: best, ..base })
+                    .map_err(Failure::rejected)?,
+            };
+            Ok((outcome, Some(c)))
+        }
+    }
+}
+
+/// Run `sheet`.
+pub fn run(args: &SheetArgs) -> CmdResult {
+    let plan = plan(args)?;
+    sheet::check_destination(&args.out, args.force).map_err(Failure::input)?;
+    let base = FitOptions { damping: crate::fit::default_damping(), ..args.estimator_options()? };
+    let mut logs = Vec::new();
+    for (path, loader, _) in &plan.logs {
+        logs.extend(load_all(std::slice::from_ref(path), loader)?);
+    }
+    let mut inputs = Vec::new();
+    if let Some(a) = &plan.article_file {
+        inputs.push(
+            InputDigest::of_file("article", a)
+                .map_err(|e| Failure::input(format!("{}: {e}", a.display())))?,
+        );
+    }
+    for (path, _, _) in &plan.logs {
+        inputs.push(
+            InputDigest::of_file("log", path)
+                .map_err(|e| Failure::input(format!("{}: {e}", path.display())))?,
+        );
+    }
+    let (outcome, comparison) = fit_plan(&logs, plan.damping, base)?;
+    let physical = physical_of(&outcome, plan.physical.as_ref())?;
+    let runs: Vec<RunView<'_>> = logs
+        .iter()
+        .zip(&outcome.runs)
+        .zip(&plan.logs)
+        .map(|((l, r), (_, _, label))| RunView {
+            name: label,
+            times: l.times(),
+            angles: l.angles(),
+            fit: r,
+        })
+        .collect();
+    let argv: Vec<String> = std::env::args_os().map(|a| a.to_string_lossy().into_owned()).collect();
+    let input = SheetInput {
+        identity: plan.identity,
+        runs,
+        fit: &outcome,
+        physical: physical.as_ref(),
+        comparison: comparison.as_ref(),
+        damping_auto: matches!(plan.damping, DampingChoice::Auto),
+        provenance: Provenance::now(&argv, inputs),
+    };
+    let written = sheet::write_sheet(&args.out, args.force, &input).map_err(Failure::input)?;
+    println!("wrote {} ({} files)", written.dir.display(), written.files.len());
+    print!("{}", crate::report::table::fit_table(&outcome, physical.as_ref()));
+    Ok(())
+}
+
+impl SheetArgs {
+    /// Estimator options without the damping (which the plan decides).
+    fn estimator_options(&self) -> Result<FitOptions, Failure> {
+        let est = EstimatorArgs { damping: "viscous".into(), ..self.estimator.clone() };
+        est.options()
+    }
+}
