@@ -37,7 +37,7 @@ use serde::Serialize;
 use crate::data::{self, LoadOptions};
 use crate::fit::{self, Estimate, FitOptions};
 use crate::model::{DampingSet, Term};
-use crate::physical::{self, Article, PhysicalResult, Quantity};
+use crate::physical::{self, ArticleInputs, PhysicalCoefficients, Quantity};
 use crate::report::json::P;
 
 /// Schema tag written on every line of `summary.jsonl`.
@@ -135,7 +135,7 @@ pub struct BatchSettings {
     /// How to fit them.
     pub fit: FitOptions,
     /// Mass properties and gravity, for physical coefficients (the same article for every log).
-    pub article: Option<Article>,
+    pub article: Option<ArticleInputs>,
     /// Worker threads (0: one per core).
     pub threads: usize,
 }
@@ -186,7 +186,7 @@ pub struct RowFit {
     /// Fitted terms, canonical order.
     pub terms: Vec<(Term, Estimate)>,
     /// Physical coefficients, with an article.
-    pub physical: Option<PhysicalResult>,
+    pub physical: Option<PhysicalCoefficients>,
 }
 
 /// One row of the summary.
@@ -263,7 +263,10 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
     let outcome =
         fit::fit(std::slice::from_ref(&log), &settings.fit).map_err(|e| rejected(e.to_string()))?;
     let physical = match &settings.article {
-        Some(a) => Some(physical::propagate(a, &outcome).map_err(rejected)?),
+        Some(a) => Some(
+            physical::physical_coefficients(a, &outcome.dynamics())
+                .map_err(|e| rejected(e.to_string()))?,
+        ),
         None => None,
     };
     let run = outcome.runs.first();
@@ -317,7 +320,7 @@ fn coefficient_values(
     physical: bool,
 ) -> Vec<Option<(f64, f64, f64, f64)>> {
     let est = |e: &Estimate| Some((e.value, e.std, e.ci95.0, e.ci95.1));
-    let qty = |q: &Quantity| Some((q.value, q.std, q.value - q.expanded, q.value + q.expanded));
+    let qty = |q: &Quantity| Some((q.value, q.u_c, q.value - q.expanded, q.value + q.expanded));
     let mut v = vec![est(&fit.omega_n)];
     v.extend(
         damping.iter().map(|t| fit.terms.iter().find(|(u, _)| *u == t).and_then(|(_, e)| est(e))),
@@ -326,11 +329,7 @@ fn coefficient_values(
         let p = fit.physical.as_ref();
         v.push(p.and_then(|p| qty(&p.inertia_pivot)));
         for t in damping.iter() {
-            let q = p.and_then(|p| match t {
-                Term::Viscous => p.viscous.as_ref(),
-                Term::Coulomb => p.coulomb.as_ref(),
-                Term::Quadratic => p.quadratic.as_ref(),
-            });
+            let q = p.and_then(|p| p.damping[t.index()].as_ref());
             v.push(q.and_then(qty));
         }
     }
@@ -428,13 +427,9 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
                 let physical = f.physical.as_ref().map(|p| {
                     let mut m = serde_json::Map::new();
                     m.insert("inertia_pivot".into(), p_value(P::from(&p.inertia_pivot)));
-                    for (name, q) in [
-                        ("viscous", &p.viscous),
-                        ("coulomb", &p.coulomb),
-                        ("quadratic", &p.quadratic),
-                    ] {
-                        if let Some(q) = q {
-                            m.insert(name.into(), p_value(P::from(q)));
+                    for t in Term::ALL {
+                        if let Some(q) = &p.damping[t.index()] {
+                            m.insert(t.name().into(), p_value(P::from(q)));
                         }
                     }
                     m

@@ -236,3 +236,23 @@ fn empty_folder_and_zero_threads_are_usage_errors() {
         .assert()
         .code(2);
 }
+
+#[test]
+fn physical_columns_appear_with_mass_and_pivot_to_cg() {
+    let out = tempfile::tempdir().expect("tempdir");
+    swingfit()
+        .arg("batch")
+        .arg(test_data("batch/mixed/hx2_a.csv"))
+        .args(["--mass", "1.5", "--pivot-to-cg", "0.2"])
+        .arg("--out")
+        .arg(out.path())
+        .assert()
+        .success();
+    let (header, rows) = read_csv(&out.path().join("summary.csv"));
+    let j: f64 = rows[0][col(&header, "phys_inertia_pivot")].parse().expect("number");
+    let wn: f64 = rows[0][col(&header, "omega_n")].parse().expect("number");
+    // J = m g d / ωn² with standard gravity 9.80665 (CHECKS.md §1, common practice).
+    let expected = 1.5 * 9.80665 * 0.2 / (wn * wn);
+    assert!((j - expected).abs() < 1e-9 * expected, "J {j}, expected {expected}");
+    assert!(header.iter().any(|h| h == "phys_coulomb_ci95_hi"));
+}
