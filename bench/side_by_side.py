@@ -23,6 +23,7 @@ import json
 import math
 import os
 import re
+import resource
 import shlex
 import statistics
 import subprocess
@@ -58,8 +59,17 @@ def truth_for(logs):
     return {}
 
 
+def children_cpu():
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
+
+
 def pinned(core, cmd, env=None):
-    return subprocess.run(["taskset", "-c", str(core)] + cmd, env=env, capture_output=True, text=True)
+    """Run pinned to `core`; returns the completed process with its CPU seconds in `.cpu`."""
+    c0 = children_cpu()
+    r = subprocess.run(["taskset", "-c", str(core)] + cmd, env=env, capture_output=True, text=True)
+    r.cpu = children_cpu() - c0
+    return r
 
 
 def max_rss_kb(core, cmd, env):
@@ -74,10 +84,12 @@ def run_case(logs, opts, damping, core, repeat, tmp):
     fit_json = os.path.join(tmp, "fit.json")
     cmd = [SWINGFIT, "fit", *logs, *opts, "--damping", damping, "--json", fit_json]
     times = []
+    cpus = []
     for _ in range(repeat):
         t0 = time.perf_counter()
         r = pinned(core, cmd, env)
         times.append(time.perf_counter() - t0)
+        cpus.append(r.cpu)
         if r.returncode != 0:
             print(f"swingfit failed ({r.returncode}): {r.stderr.strip()}")
             return None
@@ -92,13 +104,14 @@ def run_case(logs, opts, damping, core, repeat, tmp):
     r = pinned(core, [sys.executable, os.path.join(ROOT, "bench", "reference.py"), "--fit-json", fit_json,
                       "--out", ref_out, *counts, *logs])
     ref_wall = time.perf_counter() - t0
+    ref_cpu = r.cpu
     if r.returncode != 0:
         print(f"reference failed ({r.returncode}): {r.stderr.strip()[-2000:]}")
         return None
     with open(ref_out) as f:
         rd = json.load(f)
     return {"doc": doc, "ref": rd, "sw_wall": statistics.median(times), "sw_walls": times,
-            "ref_wall": ref_wall, "rss_kb": rss, "samples": doc["fit"]["samples"]}
+            "ref_wall": ref_wall, "sw_cpu": statistics.median(cpus), "ref_cpu": ref_cpu, "rss_kb": rss, "samples": doc["fit"]["samples"]}
 
 
 def report(name, logs, res):
@@ -121,6 +134,8 @@ def report(name, logs, res):
           f"{sum(s['nfev'] for s in rd['stages'])} residual evaluations + FD Jacobians; {rd['message']}")
     print(f"time ratio (reference wall / swingfit wall): {res['ref_wall'] / res['sw_wall']:.0f}x; "
           f"(reference fit only / swingfit wall): {rd['fit_seconds'] / res['sw_wall']:.0f}x")
+    print(f"CPU time: swingfit {res['sw_cpu']:.3f} s (median), reference {res['ref_cpu']:.2f} s; "
+          f"ratio {res['ref_cpu'] / res['sw_cpu']:.0f}x")
     print(f"RSS under the reference model: at its own estimate {rd['rss']:.6e}, at swingfit's {rd['rss_at_swingfit_estimate']:.6e} "
           f"(ratio {rd['rss_at_swingfit_estimate'] / rd['rss']:.6f}); swingfit's own RSS {doc['fit']['rss']:.6e}")
     hdr = f"{'parameter':<24}{'swingfit':>16}{'std':>11}{'reference':>16}{'rel diff':>11}{'diff/std':>10}"
@@ -175,7 +190,9 @@ def main(argv):
         rows = report(name, logs, res)
         summary.append({"case": name, "samples": res["samples"], "swingfit_wall_s": res["sw_wall"],
                         "reference_wall_s": res["ref_wall"], "reference_fit_s": res["ref"]["fit_seconds"],
-                        "ratio": res["ref_wall"] / res["sw_wall"], "swingfit_max_rss_kb": res["rss_kb"],
+                        "ratio": res["ref_wall"] / res["sw_wall"],
+                        "swingfit_cpu_s": res["sw_cpu"], "reference_cpu_s": res["ref_cpu"],
+                        "cpu_ratio": res["ref_cpu"] / res["sw_cpu"], "swingfit_max_rss_kb": res["rss_kb"],
                         "rss_ref_own": res["ref"]["rss"], "rss_ref_at_swingfit": res["ref"]["rss_at_swingfit_estimate"],
                         "parameters": rows})
     if a.json_out:
