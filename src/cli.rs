@@ -7,6 +7,7 @@
 
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
+mod batch;
 mod check;
 mod compare;
 pub mod fit;
@@ -66,6 +67,8 @@ enum Command {
     Compare(compare::CompareArgs),
     /// Fit an article and write its coefficient sheet (HTML, Markdown, JSON and plots) to a directory.
     Sheet(sheet::SheetArgs),
+    /// Fit many logs, one fit each, in parallel, and write a summary row per log.
+    Batch(batch::BatchArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -125,6 +128,7 @@ where
         Command::Fit(a) => fit::run(&a),
         Command::Compare(a) => compare::run(&a),
         Command::Sheet(a) => sheet::run(&a),
+        Command::Batch(a) => batch::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -13,6 +13,7 @@
 //! - [`cli`] is the thin command line over all of it.
 
 pub mod article;
+pub mod batch;
 pub mod cli;
 pub mod data;
 pub mod fit;
