@@ -231,7 +231,9 @@ pub fn fit_surveyed(
     let layout = Layout { damping: options.damping, n_runs: logs.len() };
     let pairs: Vec<(&AngleLog, &Survey)> = logs.iter().zip(surveys).collect();
     let (physics0, releases0): (Physics, Vec<Release>) = match warm {
-        Some((p, r)) if r.len() == logs.len() => (seed_terms(p, &pairs, options.damping), r.to_vec()),
+        Some((p, r)) if r.len() == logs.len() => {
+            (seed_terms(p, &pairs, options.damping), r.to_vec())
+        }
         _ => {
             let p = start::physics(&pairs, options.damping).map_err(|e| FitError::NoStart {
                 log: logs.iter().map(|l| l.source()).collect::<Vec<_>>().join(", "),
@@ -252,7 +254,8 @@ pub fn fit_surveyed(
     // the record, rather than starting it at exactly 3 periods, avoids a last window that
     // nearly repeats the whole record (81 then 99 periods cost two full fits; see
     // docs/performance.md) while every step still grows the window at most 3×.
-    let longest = logs.iter().zip(&ends).map(|(l, &e)| l.times()[e - 1] - l.times()[0]).fold(0.0, f64::max);
+    let longest =
+        logs.iter().zip(&ends).map(|(l, &e)| l.times()[e - 1] - l.times()[0]).fold(0.0, f64::max);
     let mut horizon = 3.0 * period;
     if longest > 9.0 * period {
         let stages = (longest / (3.0 * period)).log(3.0).floor();
@@ -269,8 +272,17 @@ pub fn fit_surveyed(
             .zip(&ends)
             .map(|((l, w), &end)| {
                 let t0 = l.times()[0];
-                let n = if last { end } else { l.times().partition_point(|t| t - t0 <= horizon).max(20).min(end) };
-                RunData { times: &l.times()[..n], angles: &l.angles()[..n], weights: &w[..n], max_step }
+                let n = if last {
+                    end
+                } else {
+                    l.times().partition_point(|t| t - t0 <= horizon).max(20).min(end)
+                };
+                RunData {
+                    times: &l.times()[..n],
+                    angles: &l.angles()[..n],
+                    weights: &w[..n],
+                    max_step,
+                }
             })
             .collect();
         let problem = TrajectoryProblem { layout, runs };
@@ -288,7 +300,12 @@ pub fn fit_surveyed(
                     detail: "the parameters are not identifiable from these data".into(),
                 });
             }
-            Err(e) => return Err(FitError::NotConverged { damping: options.damping, reason: e.to_string() }),
+            Err(e) => {
+                return Err(FitError::NotConverged {
+                    damping: options.damping,
+                    reason: e.to_string(),
+                });
+            }
         };
         iterations_total += sol.iterations;
         x = sol.x.clone();
@@ -311,14 +328,18 @@ pub fn resolved_end(log: &AngleLog, survey: &Survey) -> usize {
     let Some(q) = log.angle_step() else { return log.len() };
     let limit = RESOLVED_STEPS * q;
     match survey.peaks.iter().find(|p| p.deflection.abs() < limit) {
-        Some(p) => log.times().partition_point(|t| *t <= p.t).clamp(crate::data::MIN_SAMPLES.min(log.len()), log.len()),
+        Some(p) => log
+            .times()
+            .partition_point(|t| *t <= p.t)
+            .clamp(crate::data::MIN_SAMPLES.min(log.len()), log.len()),
         None => log.len(),
     }
 }
 
 /// Physics from an earlier fit, with start values for terms it did not have.
 fn seed_terms(p: &Physics, pairs: &[(&AngleLog, &Survey)], set: DampingSet) -> Physics {
-    let peaks: Vec<&[crate::data::survey::Peak]> = pairs.iter().map(|(_, s)| s.peaks.as_slice()).collect();
+    let peaks: Vec<&[crate::data::survey::Peak]> =
+        pairs.iter().map(|(_, s)| s.peaks.as_slice()).collect();
     let fresh = start::damping(&peaks, p.omega_n, set);
     let mut out = Physics::undamped(p.omega_n);
     for t in set.iter() {
@@ -350,22 +371,41 @@ fn finish(
     let n_eff = problem.runs.iter().flat_map(|r| r.weights.iter()).sum::<f64>().round() as usize;
     let p = layout.n_params();
     if n_eff <= p + 1 {
-        return Err(FitError::Setup(format!("{n_eff} independent readings cannot determine {p} parameters")));
+        return Err(FitError::Setup(format!(
+            "{n_eff} independent readings cannot determine {p} parameters"
+        )));
     }
     let x = sol.x.clone();
-    let residuals = problem
-        .residuals(&x)
-        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
     let trajectories: Vec<_> = (0..logs.len())
         .map(|k| problem.trajectory(&x, k))
         .collect::<Result<_, _>>()
         .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
-    let singular = |e: uncertainty::UncertaintyError| FitError::Singular { damping: options.damping, detail: e.to_string() };
+    let residuals: Vec<Vec<f64>> = trajectories
+        .iter()
+        .zip(&problem.runs)
+        .map(|(tr, run)| tr.angle.iter().zip(run.angles).map(|(m, y)| m - y).collect())
+        .collect();
+    let singular = |e: uncertainty::UncertaintyError| FitError::Singular {
+        damping: options.damping,
+        detail: e.to_string(),
+    };
     let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_eff).map_err(singular)?;
     let all_residuals: Vec<f64> = residuals.concat();
-    let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05).map_err(singular)?;
+    let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05)
+        .map_err(singular)?;
     let intervals = match options.bootstrap {
-        Some(b) if b >= 2 => bootstrap(logs, surveys, options, layout, &x, &residuals, &trajectories, b, &plain, cov.dof)?,
+        Some(b) if b >= 2 => bootstrap(
+            logs,
+            surveys,
+            options,
+            layout,
+            &x,
+            &residuals,
+            &trajectories,
+            b,
+            &plain,
+            cov.dof,
+        )?,
         _ => plain,
     };
     // Covariance consistent with the reported standard uncertainties (widening rescales it).
@@ -393,12 +433,20 @@ fn finish(
         .collect();
     let ljung_box: Vec<f64> = residuals
         .iter()
-        .map(|r| stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0).map(|l| l.p_value).unwrap_or(f64::NAN))
+        .map(|r| {
+            stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0)
+                .map(|l| l.p_value)
+                .unwrap_or(f64::NAN)
+        })
         .collect();
     let interval_method = intervals.method.clone();
     let physics = layout.physics(&x);
-    let terms: Vec<(Term, Estimate)> =
-        options.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
+    let terms: Vec<(Term, Estimate)> = options
+        .damping
+        .iter()
+        .enumerate()
+        .map(|(i, t)| (t, est(1 + i, t.normalized_unit())))
+        .collect();
     for (k, run) in problem.runs.iter().enumerate() {
         let log = &logs[k];
         let used = run.times.len();
@@ -497,9 +545,15 @@ fn bootstrap(
                 .iter()
                 .enumerate()
                 .map(|(k, l)| {
-                    let mut boot = uncertainty::BlockBootstrap::new(&residuals[k], block, seed.wrapping_add(7919 * k as u64)).ok()?;
+                    let mut boot = uncertainty::BlockBootstrap::new(
+                        &residuals[k],
+                        block,
+                        seed.wrapping_add(7919 * k as u64),
+                    )
+                    .ok()?;
                     let e = boot.sample();
-                    let y: Vec<f64> = trajectories[k].angle.iter().zip(e.iter()).map(|(m, r)| m - r).collect();
+                    let y: Vec<f64> =
+                        trajectories[k].angle.iter().zip(e.iter()).map(|(m, r)| m - r).collect();
                     AngleLog::from_samples(l.source(), l.times().to_vec(), y).ok()
                 })
                 .collect();

@@ -134,6 +134,9 @@ pub fn repeat_weights(angles: &[f64]) -> Vec<f64> {
     w
 }
 
+/// Most local parameters of one run: ωn, three damping terms, θeq, θ0, ω0.
+const MAX_LOCAL: usize = 1 + 3 + RELEASE_PARAMS;
+
 /// One run's share of the normal equations: (RSS, JᵀJ, Jᵀr) over its local parameters.
 type RunNormal = (f64, DMatrix<f64>, DVector<f64>);
 
@@ -220,26 +223,30 @@ impl LeastSquares for TrajectoryProblem<'_> {
                 let mut jtj = DMatrix::<f64>::zeros(p_loc, p_loc);
                 let mut jtr = DVector::<f64>::zeros(p_loc);
                 let mut rss = 0.0;
-                // Accumulate the upper triangle in a flat buffer: this loop runs once per sample.
-                let mut acc = vec![0.0; p_loc * p_loc];
-                for (i, ((m, y), w)) in tr.angle.iter().zip(run.angles).zip(run.weights).enumerate()
+                // Accumulate the upper triangle in a fixed buffer: this loop runs once per sample,
+                // so it avoids bounds checks and heap access (p_loc ≤ MAX_LOCAL).
+                let mut acc = [[0.0f64; MAX_LOCAL]; MAX_LOCAL];
+                let mut b_acc = [0.0f64; MAX_LOCAL];
+                for (((g, m), y), w) in
+                    sens.d_angle.chunks_exact(p_loc).zip(&tr.angle).zip(run.angles).zip(run.weights)
                 {
                     let r = m - y;
                     rss += w * r * r;
-                    let g = &sens.d_angle[i * p_loc..(i + 1) * p_loc];
-                    for a in 0..p_loc {
-                        jtr[a] += w * g[a] * r;
-                        let ga = w * g[a];
-                        let row = &mut acc[a * p_loc..(a + 1) * p_loc];
-                        for b in a..p_loc {
-                            row[b] += ga * g[b];
+                    let mut gl = [0.0f64; MAX_LOCAL];
+                    gl[..p_loc].copy_from_slice(g);
+                    for a in 0..MAX_LOCAL.min(p_loc) {
+                        let ga = w * gl[a];
+                        b_acc[a] += ga * r;
+                        for b in a..MAX_LOCAL {
+                            acc[a][b] += ga * gl[b];
                         }
                     }
                 }
                 for a in 0..p_loc {
+                    jtr[a] = b_acc[a];
                     for b in a..p_loc {
-                        jtj[(a, b)] = acc[a * p_loc + b];
-                        jtj[(b, a)] = acc[a * p_loc + b];
+                        jtj[(a, b)] = acc[a][b];
+                        jtj[(b, a)] = acc[a][b];
                     }
                 }
                 Ok((rss, jtj, jtr))
