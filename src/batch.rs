@@ -34,7 +34,9 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 use serde::Serialize;
 
+use crate::article::{self, DampingChoice};
 use crate::data::{self, LoadOptions};
+use crate::fit::compare::{self, CompareOptions};
 use crate::fit::{self, Estimate, FitOptions};
 use crate::model::{DampingSet, Term};
 use crate::physical::{self, ArticleInputs, PhysicalCoefficients, Quantity};
@@ -50,8 +52,8 @@ pub enum Input {
     Log(PathBuf),
     /// An article file (TOML) naming the logs of one article and its mass properties.
     ///
-    /// Hook: article files are being built in another issue; until [`fit_article`] reads them,
-    /// each one listed gets an error row saying so, and directories are scanned for `*.csv` only.
+    /// Fitted by [`fit_article`]; directories are scanned for `*.toml` too, and a log that an
+    /// article names is left to its article.
     Article(PathBuf),
 }
 
@@ -106,6 +108,8 @@ pub fn collect_inputs(paths: &[PathBuf]) -> Result<Vec<Input>, BatchError> {
                 let path = e.path();
                 if path.is_file() && has_extension(&path, "csv") {
                     out.push(Input::Log(path));
+                } else if path.is_file() && has_extension(&path, "toml") {
+                    out.push(Input::Article(path));
                 }
             }
         } else if has_extension(p, "toml") {
@@ -114,6 +118,20 @@ pub fn collect_inputs(paths: &[PathBuf]) -> Result<Vec<Input>, BatchError> {
             out.push(Input::Log(p.clone()));
         }
     }
+    // A log that an article file names is fitted with its article, not on its own.
+    let claimed: Vec<PathBuf> = out
+        .iter()
+        .filter_map(|i| match i {
+            Input::Article(p) => article::load(p).ok(),
+            Input::Log(_) => None,
+        })
+        .flat_map(|spec| spec.runs.into_iter().map(|r| r.log))
+        .filter_map(|p| p.canonicalize().ok())
+        .collect();
+    out.retain(|i| match i {
+        Input::Log(p) => !p.canonicalize().is_ok_and(|c| claimed.contains(&c)),
+        Input::Article(_) => true,
+    });
     out.sort_by(|a, b| a.path().cmp(b.path()));
     out.dedup();
     if out.is_empty() {
@@ -282,18 +300,62 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
     })
 }
 
-/// Hook for article files (`*.toml`): the article-file reader is another issue's work. When it
-/// lands, this reads the file, loads its logs, fits them jointly with its mass properties and
-/// returns one row; [`collect_inputs`] should then take `*.toml` from directories too and leave
-/// out the logs an article names.
-pub fn fit_article(path: &Path, _settings: &BatchSettings) -> Result<RowFit, RowError> {
-    Err(RowError {
-        kind: ErrorKind::Input,
-        message: format!(
-            "{}: article files (*.toml) are not read by batch yet; list the article's logs (*.csv) instead",
-            path.display()
-        ),
+/// Fit one article file (`*.toml`): its logs jointly, with its own loader settings, damping
+/// choice (`"auto"` runs the comparison and fits the set it names) and mass properties, so the
+/// row carries physical coefficients. The batch's own loader, damping and mass options do not
+/// apply to an article; its bootstrap and seed settings do.
+pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
+    let input = |m: String| RowError { kind: ErrorKind::Input, message: m };
+    let rejected = |m: String| RowError {
+        kind: ErrorKind::Rejected,
+        message: format!("{}: {m}", path.display()),
+    };
+    let spec = article::load(path).map_err(|e| input(e.to_string()))?;
+    let logs: Vec<data::AngleLog> = spec
+        .runs
+        .iter()
+        .map(|r| data::load(&r.log, &r.load).map_err(|e| input(e.to_string())))
+        .collect::<Result<_, _>>()?;
+    let dropped_rows = logs.iter().map(|l| l.dropped_lines().len()).sum();
+    let damping = match spec.damping {
+        DampingChoice::Terms(set) => set,
+        DampingChoice::Auto => {
+            let options = CompareOptions {
+                candidates: DampingSet::all_nonempty(),
+                fit: settings.fit.clone(),
+            };
+            let c = compare::compare(&logs, &options);
+            c.best.ok_or_else(|| rejected(format!("damping \"auto\": {}", c.verdict)))?
+        }
+    };
+    let options = FitOptions { damping, ..settings.fit.clone() };
+    let outcome = fit::fit(&logs, &options).map_err(|e| rejected(e.to_string()))?;
+    let physical = physical::physical_coefficients(&spec.physical, &outcome.dynamics())
+        .map_err(|e| rejected(e.to_string()))?;
+    Ok(RowFit {
+        samples: outcome.n_obs,
+        dropped_rows,
+        iterations: outcome.iterations_total,
+        rms_residual: outcome.rms_residual(),
+        noise_floor: outcome.runs.iter().map(|r| r.noise_floor).fold(0.0, f64::max),
+        omega_n: outcome.omega_n.clone(),
+        terms: outcome.terms.clone(),
+        physical: Some(physical),
     })
+}
+
+/// The columns a summary needs: the batch's damping set widened by every term any row fitted
+/// (an article may fit other terms), and physical columns when any row has them.
+pub fn summary_columns(rows: &[Row], base: DampingSet, physical: bool) -> (DampingSet, bool) {
+    let mut set = base;
+    let mut phys = physical;
+    for f in rows.iter().filter_map(|r| r.result.as_ref().ok()) {
+        for (t, _) in &f.terms {
+            set = set.with(*t);
+        }
+        phys |= f.physical.is_some();
+    }
+    (set, phys)
 }
 
 /// Shortest round-trip form of a number (`NaN`, `inf` as Rust prints them).

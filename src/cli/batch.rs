@@ -74,9 +74,10 @@ pub fn run(args: &BatchArgs) -> CmdResult {
 
     let csv_path = args.out.join("summary.csv");
     let jsonl_path = args.out.join("summary.jsonl");
-    let physical = settings.article.is_some();
+    let (columns, physical) =
+        batch::summary_columns(&rows, settings.fit.damping, settings.article.is_some());
     for (path, text) in [
-        (&csv_path, batch::summary_csv(&rows, settings.fit.damping, physical)),
+        (&csv_path, batch::summary_csv(&rows, columns, physical)),
         (&jsonl_path, batch::summary_jsonl(&rows)),
     ] {
         atomic::write_atomic(path, text.as_bytes())

@@ -186,32 +186,35 @@ fn a_log_that_reads_but_cannot_be_fitted_exits_one() {
 }
 
 #[test]
-fn article_files_are_recorded_as_not_yet_supported() {
+fn article_files_are_fitted_jointly_and_bad_ones_recorded() {
+    // The demo article (data/ba7_article.toml, damping "auto"): its two logs are fitted jointly
+    // with its own loader settings and mass properties; J = 0.1650 kg·m² by construction
+    // (data/README.md). A misspelt article key is an input error row naming file, line and key.
     let dir = tempfile::tempdir().expect("tempdir");
-    let article = dir.path().join("hx2.toml");
-    std::fs::write(&article, "logs = [\"hx2_a.csv\"]\n").expect("write");
+    let bad = dir.path().join("hx2.toml");
+    std::fs::write(&bad, "id = \"HX-2\"\nlogs = [\"hx2_a.csv\"]\n").expect("write");
     let out = dir.path().join("out");
     swingfit()
         .arg("batch")
-        .arg(&article)
-        .arg(test_data("batch/mixed/hx2_a.csv"))
+        .arg(crate::common::demo_data("ba7_article.toml"))
+        .arg(&bad)
         .arg("--out")
         .arg(&out)
         .assert()
         .code(2)
-        .stderr(predicates::str::contains("article files (*.toml) are not read by batch yet"));
+        .stderr(predicates::str::contains("hx2.toml:2"));
     let (header, rows) = read_csv(&out.join("summary.csv"));
-    let files: Vec<String> = rows.iter().map(|r| r[col(&header, "file")].clone()).collect();
-    let mut sorted = files.clone();
-    sorted.sort();
-    assert_eq!(files, sorted, "rows sorted by path");
-    let status_of = |name: &str| {
-        rows.iter()
-            .find(|r| file_name(&r[col(&header, "file")]) == name)
-            .map(|r| r[col(&header, "status")].clone())
-    };
-    assert_eq!(status_of("hx2.toml").as_deref(), Some("error"));
-    assert_eq!(status_of("hx2_a.csv").as_deref(), Some("ok"));
+    assert_eq!(rows.len(), 2);
+    let row =
+        |name: &str| rows.iter().find(|r| file_name(&r[col(&header, "file")]) == name).expect(name);
+    let ba7 = row("ba7_article.toml");
+    assert_eq!(ba7[col(&header, "status")], "ok");
+    let lo: f64 = ba7[col(&header, "phys_inertia_pivot_ci95_lo")].parse().unwrap();
+    let hi: f64 = ba7[col(&header, "phys_inertia_pivot_ci95_hi")].parse().unwrap();
+    assert!(lo <= 0.1650 && 0.1650 <= hi, "J interval [{lo}, {hi}]");
+    // "auto" chose all three terms, so the summary has a quadratic column with a value.
+    assert!(!ba7[col(&header, "quadratic")].is_empty());
+    assert_eq!(row("hx2.toml")[col(&header, "error_kind")], "input");
 }
 
 #[test]
@@ -255,4 +258,17 @@ fn physical_columns_appear_with_mass_and_pivot_to_cg() {
     let expected = 1.5 * 9.80665 * 0.2 / (wn * wn);
     assert!((j - expected).abs() < 1e-9 * expected, "J {j}, expected {expected}");
     assert!(header.iter().any(|h| h == "phys_coulomb_ci95_hi"));
+}
+
+#[test]
+fn a_folder_with_an_article_fits_its_logs_once_with_the_article() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    for f in ["ba7_article.toml", "ba7_release60_counts.csv", "ba7_release15_deg.csv"] {
+        std::fs::copy(crate::common::demo_data(f), dir.path().join(f)).expect("copy");
+    }
+    let out = dir.path().join("out");
+    swingfit().arg("batch").arg(dir.path()).arg("--out").arg(&out).assert().success();
+    let (header, rows) = read_csv(&out.join("summary.csv"));
+    let files: Vec<String> = rows.iter().map(|r| file_name(&r[col(&header, "file")])).collect();
+    assert_eq!(files, vec!["ba7_article.toml"]);
 }
