@@ -627,6 +627,51 @@ fn g3(v: f64) -> String {
     crate::report::table::num(v, 4)
 }
 
+/// The identity block of the sheet, (label, text) in order, shared by the HTML and Markdown
+/// renderings so that both say the same.
+fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
+    let a = &doc.article;
+    let mut v: Vec<(&'static str, String)> = Vec::new();
+    if let Some(r) = &a.rig {
+        v.push(("Rig", r.clone()));
+    }
+    if let Some(o) = &a.operator {
+        v.push(("Operator", o.clone()));
+    }
+    if let Some(m) = &a.mass {
+        v.push(("Mass", format!("{} kg (standard uncertainty {} kg)", m.value, m.std)));
+    }
+    if let Some(d) = &a.pivot_to_cg {
+        v.push(("Pivot to CG", format!("{} m (standard uncertainty {} m)", d.value, d.std)));
+    }
+    if let Some(g) = &a.gravity {
+        v.push(("Gravity", g.clone()));
+    }
+    for r in &doc.runs {
+        v.push((
+            "Run",
+            format!("{} — {} ({} samples, {:.2} s)", r.label, r.file, r.samples, r.duration_s),
+        ));
+    }
+    let how = if doc.damping.choice == "auto" {
+        "chosen by the model comparison"
+    } else {
+        "as requested"
+    };
+    v.push(("Damping fitted", format!("{} ({how})", doc.damping.fitted.join(" + "))));
+    v.push((
+        "Generated",
+        format!(
+            "{} by {} {}",
+            doc.provenance.generated_utc, doc.provenance.tool, doc.provenance.version
+        ),
+    ));
+    if let Some(n) = &a.notes {
+        v.push(("Notes", n.clone()));
+    }
+    v
+}
+
 /// The sheet as Markdown text.
 pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
     let mut s = String::new();
@@ -636,36 +681,8 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         let _ = writeln!(s, "{}\n", a.description);
     }
     let _ = writeln!(s, "## Article and test\n");
-    let mut field = |k: &str, v: &str| {
+    for (k, v) in identity_fields(doc) {
         let _ = writeln!(s, "- **{k}:** {v}");
-    };
-    if let Some(r) = &a.rig {
-        field("Rig", r);
-    }
-    if let Some(o) = &a.operator {
-        field("Operator", o);
-    }
-    if let Some(m) = &a.mass {
-        field("Mass", &format!("{} kg (u {} kg)", m.value, m.std));
-    }
-    if let Some(d) = &a.pivot_to_cg {
-        field("Pivot to CG", &format!("{} m (u {} m)", d.value, d.std));
-    }
-    if let Some(g) = &a.gravity {
-        field("Gravity", g);
-    }
-    for r in &doc.runs {
-        field(
-            "Run",
-            &format!("{} — {} ({} samples, {:.2} s)", r.label, r.file, r.samples, r.duration_s),
-        );
-    }
-    field(
-        "Damping fitted",
-        &format!("{} ({})", doc.damping.fitted.join(" + "), doc.damping.choice),
-    );
-    if let Some(n) = &a.notes {
-        field("Notes", n);
     }
     let _ = writeln!(s, "\n## Coefficients\n");
     let _ = writeln!(s, "| view | quantity | symbol | value | u (k=1) | U (k=2) | unit |");
@@ -845,51 +862,8 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
         let _ = writeln!(h, "<p>{}</p>", esc(&a.description));
     }
     let _ = writeln!(h, "<dl class=\"ident\">");
-    let mut dd = |k: &str, v: &str| {
-        let _ = writeln!(h, "<dt>{}</dt><dd>{}</dd>", esc(k), esc(v));
-    };
-    if let Some(r) = &a.rig {
-        dd("Rig", r);
-    }
-    if let Some(o) = &a.operator {
-        dd("Operator", o);
-    }
-    if let Some(m) = &a.mass {
-        dd("Mass", &format!("{} kg (standard uncertainty {} kg)", m.value, m.std));
-    }
-    if let Some(d) = &a.pivot_to_cg {
-        dd("Pivot to CG", &format!("{} m (standard uncertainty {} m)", d.value, d.std));
-    }
-    if let Some(g) = &a.gravity {
-        dd("Gravity", g);
-    }
-    for r in &doc.runs {
-        dd(
-            "Run",
-            &format!("{} — {} ({} samples, {:.2} s)", r.label, r.file, r.samples, r.duration_s),
-        );
-    }
-    dd(
-        "Damping fitted",
-        &format!(
-            "{} ({})",
-            doc.damping.fitted.join(" + "),
-            if doc.damping.choice == "auto" {
-                "chosen by the model comparison"
-            } else {
-                "as requested"
-            }
-        ),
-    );
-    dd(
-        "Generated",
-        &format!(
-            "{} by {} {}",
-            doc.provenance.generated_utc, doc.provenance.tool, doc.provenance.version
-        ),
-    );
-    if let Some(n) = &a.notes {
-        dd("Notes", n);
+    for (k, v) in identity_fields(doc) {
+        let _ = writeln!(h, "<dt>{}</dt><dd>{}</dd>", esc(k), esc(&v));
     }
     let _ = writeln!(h, "</dl>\n</header>");
 
