@@ -335,53 +335,55 @@ pub fn residuals(runs: &[RunView<'_>], stem: &str) -> Chart {
     }
 }
 
-/// Half-cycle peak amplitude against time: measured peaks (dots) and the model of the fit, or of
-/// every converged candidate of a comparison (lines), all runs on one chart.
-pub fn envelope(runs: &[RunView<'_>], comparison: Option<&Comparison>, stem: &str) -> Chart {
+/// Half-cycle peak amplitude of run `k` against time: measured peaks (dots) and the model of the
+/// fit, or of every converged candidate of a comparison (lines, best first), one chart per run so
+/// the candidates can be told apart.
+pub fn envelope(r: &RunView<'_>, k: usize, comparison: Option<&Comparison>, stem: &str) -> Chart {
     let deg = 180.0 / std::f64::consts::PI;
     let mut series = Vec::new();
-    let many = runs.len() > 1;
-    for (k, r) in runs.iter().enumerate() {
-        let (measured, model) = half_cycle_peaks(r);
-        let measured: Vec<(f64, f64)> = match comparison.and_then(|c| c.measured_peaks.get(k)) {
-            Some(p) if !p.is_empty() => p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect(),
-            _ => measured.iter().map(|(t, a)| (*t, a * deg)).collect(),
-        };
-        let tag = |s: &str| if many { format!("{}: {s}", r.name) } else { s.to_string() };
-        series.push(Series {
-            label: tag("measured peaks"),
-            points: thin(&measured, MAX_PARAMETRIC),
-            mark: Mark::Dots,
-        });
-        match comparison {
-            Some(c) => {
-                for cand in c.candidates.iter().filter(|c| c.fit.is_ok()) {
-                    if let Some(p) = cand.model_peaks.get(k)
-                        && !p.is_empty()
-                    {
-                        let pts: Vec<(f64, f64)> =
-                            p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect();
-                        series.push(Series {
-                            label: tag(&format!("model {}", cand.damping)),
-                            points: thin(&pts, MAX_PARAMETRIC),
-                            mark: Mark::Line,
-                        });
-                    }
+    let (measured, model) = half_cycle_peaks(r);
+    let measured: Vec<(f64, f64)> = match comparison.and_then(|c| c.measured_peaks.get(k)) {
+        Some(p) if !p.is_empty() => p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect(),
+        _ => measured.iter().map(|(t, a)| (*t, a * deg)).collect(),
+    };
+    series.push(Series {
+        label: "measured peaks".into(),
+        points: thin(&measured, MAX_PARAMETRIC),
+        mark: Mark::Dots,
+    });
+    match comparison {
+        Some(c) => {
+            for cand in c.candidates.iter().filter(|c| c.fit.is_ok()) {
+                if let Some(p) = cand.model_peaks.get(k)
+                    && !p.is_empty()
+                {
+                    let pts: Vec<(f64, f64)> =
+                        p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect();
+                    let best = c.best == Some(cand.damping);
+                    series.push(Series {
+                        label: format!(
+                            "model {}{}",
+                            cand.damping,
+                            if best { " (chosen)" } else { "" }
+                        ),
+                        points: thin(&pts, MAX_PARAMETRIC),
+                        mark: Mark::Line,
+                    });
                 }
             }
-            None => {
-                let pts: Vec<(f64, f64)> = model.iter().map(|(t, a)| (*t, a * deg)).collect();
-                series.push(Series {
-                    label: tag("fitted model"),
-                    points: thin(&pts, MAX_PARAMETRIC),
-                    mark: Mark::Line,
-                });
-            }
+        }
+        None => {
+            let pts: Vec<(f64, f64)> = model.iter().map(|(t, a)| (*t, a * deg)).collect();
+            series.push(Series {
+                label: "fitted model".into(),
+                points: thin(&pts, MAX_PARAMETRIC),
+                mark: Mark::Line,
+            });
         }
     }
     Chart {
         stem: stem.to_string(),
-        title: "Decay envelope: peak amplitude of each half cycle".into(),
+        title: format!("{}: decay envelope, peak amplitude of each half cycle", r.name),
         x_label: "time [s]".into(),
         y_label: "peak amplitude [deg]".into(),
         series,
@@ -585,7 +587,7 @@ pub fn render_png(chart: &Chart, path: &Path) -> Result<(), PlotError> {
 }
 
 /// Every chart of a sheet: per run the overlays (whole, first, last cycles) and the phase
-/// portrait; then the residuals, the decay envelope and period against amplitude.
+/// portrait and the decay envelope; then the residuals and period against amplitude.
 pub fn sheet_charts(
     runs: &[RunView<'_>],
     omega_n: f64,
@@ -598,9 +600,9 @@ pub fn sheet_charts(
         charts.push(overlay(r, omega_n, Window::First, &format!("run{n}_first_cycles")));
         charts.push(overlay(r, omega_n, Window::Last, &format!("run{n}_last_cycles")));
         charts.push(phase_portrait(r, omega_n, &format!("run{n}_phase")));
+        charts.push(envelope(r, k, comparison, &format!("run{n}_envelope")));
     }
     charts.push(residuals(runs, "residuals"));
-    charts.push(envelope(runs, comparison, "envelope"));
     charts.push(period_amplitude(runs, comparison, "period_amplitude"));
     charts
 }

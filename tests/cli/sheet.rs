@@ -48,7 +48,7 @@ fn sheet_of_a_demo_log_has_every_part_and_is_reproducible() {
         "run1_last_cycles",
         "run1_phase",
         "residuals",
-        "envelope",
+        "run1_envelope",
         "period_amplitude",
     ] {
         assert!(names.contains(&format!("{stem}.svg")), "{stem}.svg in {names:?}");

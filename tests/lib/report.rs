@@ -386,7 +386,7 @@ fn sheet_holds_every_number_and_plot() {
         "run1_last_cycles",
         "run1_phase",
         "residuals",
-        "envelope",
+        "run1_envelope",
         "period_amplitude",
     ] {
         assert!(
