@@ -279,3 +279,69 @@ fn fits_the_scipy_reference_trajectories_exactly() {
         }
     }
 }
+
+#[test]
+fn bootstrap_intervals_are_seeded_and_never_narrower_than_analytic() {
+    use swingfit::fit::uncertainty::IntervalMethod;
+    let p = physics(4.0, 0.05, 0.0, 0.0);
+    let case = Case {
+        physics: p,
+        release: release(0.0, 0.4),
+        times: uniform(15.0, 40.0),
+        noise_rad: 5e-4,
+        counts_per_rev: None,
+        seed: 77,
+    };
+    let log = case.log("boot.csv");
+    let d = set(&[Term::Viscous]);
+    let plain = fit(std::slice::from_ref(&log), &opts(d)).expect("plain");
+    let boot_opts =
+        FitOptions { damping: d, bootstrap: Some(40), seed: 3, ..FitOptions::default() };
+    let a = fit(std::slice::from_ref(&log), &boot_opts).expect("bootstrap");
+    let b = fit(std::slice::from_ref(&log), &boot_opts).expect("bootstrap again");
+    match a.interval_method {
+        IntervalMethod::Bootstrap { replicates, .. } => {
+            assert!(replicates >= 20, "{replicates} replicates")
+        }
+        ref m => panic!("expected bootstrap intervals, got {m:?}"),
+    }
+    assert_eq!(a.omega_n, b.omega_n, "same seed, same numbers");
+    assert!(a.term(Term::Viscous).unwrap().std >= plain.term(Term::Viscous).unwrap().std);
+    assert_covers(&a, &p);
+}
+
+#[test]
+fn correlated_residuals_widen_the_intervals_and_say_so() {
+    use swingfit::fit::uncertainty::IntervalMethod;
+    // Noise smoothed over 9 samples (a low-pass sensor): Ljung–Box rejects whiteness and the
+    // standard uncertainties are widened from the effective sample size.
+    let p = physics(4.0, 0.05, 0.0, 0.0);
+    let case = Case {
+        physics: p,
+        release: release(0.0, 0.4),
+        times: uniform(30.0, 100.0),
+        noise_rad: 0.0,
+        counts_per_rev: None,
+        seed: 0,
+    };
+    let clean = case.clean();
+    let mut white = vec![0.0; clean.len()];
+    swingfit::data::write::add_noise(&mut white, 1e-3, 8).unwrap();
+    let smooth: Vec<f64> = (0..white.len())
+        .map(|i| {
+            let lo = i.saturating_sub(4);
+            let hi = (i + 5).min(white.len());
+            white[lo..hi].iter().sum::<f64>() / (hi - lo) as f64
+        })
+        .collect();
+    let angles: Vec<f64> = clean.iter().zip(&smooth).map(|(a, e)| a + e).collect();
+    let log = AngleLog::from_samples("lowpass.csv", case.times.clone(), angles).unwrap();
+    let f = fit(&[log], &opts(set(&[Term::Viscous]))).expect("fit");
+    match f.interval_method {
+        IntervalMethod::EffectiveSampleSize { factor, .. } => {
+            assert!(factor > 2.0, "factor {factor}")
+        }
+        ref m => panic!("expected widening, got {m:?}"),
+    }
+    assert_covers(&f, &p);
+}
