@@ -169,10 +169,6 @@ fn monte_carlo_coverage_of_the_95_percent_intervals() {
         let scatter =
             (values[k].iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
         let reported = stds[k].iter().sum::<f64>() / n;
-        eprintln!(
-            "parameter {k}: coverage {cover:.3}, reported std / scatter {:.3}",
-            reported / scatter
-        );
         assert!(
             (reported / scatter - 1.0).abs() < 0.15,
             "parameter {k}: reported {reported} vs scatter {scatter}"
