@@ -464,9 +464,9 @@ fn verdict(
         let _ = write!(v, "{}.", reasons.join("; "));
         return v;
     }
-    match best {
-        Some(b) => {
-            let c = cands.iter().find(|c| c.damping == b).expect("best is a candidate");
+    // `best` is always one of `cands` (it is chosen from them); the pairing keeps that explicit.
+    match best.and_then(|b| cands.iter().find(|c| c.damping == b).map(|c| (b, c))) {
+        Some((b, c)) => {
             let _ = write!(
                 v,
                 "{} explains the decay to the noise floor (RMS residual {:.2}x the noise floor, Ljung-Box p {:.2}, every term significant).",
