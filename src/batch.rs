@@ -653,6 +653,7 @@ mod tests {
             got,
             vec![
                 Input::Log(dir.join("a.CSV")),
+                Input::Article(dir.join("art.toml")),
                 Input::Log(dir.join("b.csv")),
                 Input::Article(dir.join("x.toml"))
             ]
