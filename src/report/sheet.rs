@@ -650,7 +650,10 @@ fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
     for r in &doc.runs {
         v.push((
             "Run",
-            format!("{} — {} ({} samples, {:.2} s)", r.label, r.file, r.samples, r.duration_s),
+            format!(
+                "{} — {} ({} samples fitted; {:.2} s logged)",
+                r.label, r.file, r.samples, r.duration_s
+            ),
         ));
     }
     let how = if doc.damping.choice == "auto" {
