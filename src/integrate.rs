@@ -159,6 +159,57 @@ pub fn simulate_with_sensitivities(
     Ok((traj, Sensitivities { n_params: 1 + terms.len() + crate::model::RELEASE_PARAMS, d_angle }))
 }
 
+/// Like [`simulate`] with `Method::Rk4 { max_step }`, but hands each sample's θ and ω to
+/// `sink(i, θ, ω)` instead of storing them (the estimator's cost needs only a sum). Returns the
+/// events.
+pub fn for_each_state(
+    physics: &Physics,
+    release: &Release,
+    times: &[f64],
+    max_step: f64,
+    mut sink: impl FnMut(usize, f64, f64),
+) -> Result<Vec<Event>, IntegrateError> {
+    check_inputs(physics, release, times)?;
+    check_max_step(max_step)?;
+    let mut i = 0usize;
+    rk4::run_into::<0>(physics, release, times, DampingSet::EMPTY, max_step, &mut |th, om, _| {
+        sink(i, th, om);
+        i += 1;
+    })
+}
+
+/// Like [`simulate_with_sensitivities`], but hands each sample's θ, ω and ∂θ/∂p (columns in the
+/// [`Sensitivities`] order) to `sink(i, θ, ω, ∂θ/∂p)` as soon as it is computed instead of
+/// storing them, so a caller that only accumulates (the estimator's normal equations) needs no
+/// n × p matrix. The numbers are the same as [`simulate_with_sensitivities`]'s. Returns the
+/// events.
+pub fn for_each_sensitivity(
+    physics: &Physics,
+    release: &Release,
+    times: &[f64],
+    terms: DampingSet,
+    max_step: f64,
+    mut sink: impl FnMut(usize, f64, f64, &[f64]),
+) -> Result<Vec<Event>, IntegrateError> {
+    check_inputs(physics, release, times)?;
+    check_max_step(max_step)?;
+    let mut i = 0usize;
+    macro_rules! go {
+        ($np:literal) => {
+            rk4::run_into::<$np>(physics, release, times, terms, max_step, &mut |th, om, st| {
+                sink(i, th, om, st);
+                i += 1;
+            })
+        };
+    }
+    match terms.len() {
+        0 => go!(4),
+        1 => go!(5),
+        2 => go!(6),
+        _ => go!(7),
+    }
+}
+
 /// Check physics, release and times once, before any integration.
 fn check_inputs(physics: &Physics, release: &Release, times: &[f64]) -> Result<(), IntegrateError> {
     physics.validate().map_err(IntegrateError::InvalidParams)?;

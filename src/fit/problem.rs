@@ -184,18 +184,24 @@ impl LeastSquares for TrajectoryProblem<'_> {
     }
 
     fn cost(&self, x: &DVector<f64>) -> Result<f64, String> {
+        let physics = self.layout.physics(x);
         let per_run: Result<Vec<f64>, String> = (0..self.runs.len())
             .into_par_iter()
             .map(|k| {
-                let tr = self.trajectory(x, k)?;
                 let run = &self.runs[k];
-                Ok(tr
-                    .angle
-                    .iter()
-                    .zip(run.angles)
-                    .zip(run.weights)
-                    .map(|((m, y), w)| w * (m - y) * (m - y))
-                    .sum())
+                let mut rss = 0.0;
+                integrate::for_each_state(
+                    &physics,
+                    &self.layout.release(x, k),
+                    run.times,
+                    run.max_step,
+                    |i, m, _| {
+                        let r = m - run.angles[i];
+                        rss += run.weights[i] * r * r;
+                    },
+                )
+                .map_err(|e| e.to_string())?;
+                Ok(rss)
             })
             .collect();
         let rss: f64 = per_run?.iter().sum();
@@ -211,37 +217,36 @@ impl LeastSquares for TrajectoryProblem<'_> {
             .into_par_iter()
             .map(|k| {
                 let run = &self.runs[k];
-                let (tr, sens) = integrate::simulate_with_sensitivities(
+                let mut jtj = DMatrix::<f64>::zeros(p_loc, p_loc);
+                let mut jtr = DVector::<f64>::zeros(p_loc);
+                let mut rss = 0.0;
+                // Accumulate the upper triangle in a fixed buffer as each sample's sensitivities
+                // come out of the integrator: no n × p matrix is stored, and the per-sample loop
+                // has no bounds checks or heap access (p_loc ≤ MAX_LOCAL).
+                let mut acc = [[0.0f64; MAX_LOCAL]; MAX_LOCAL];
+                let mut b_acc = [0.0f64; MAX_LOCAL];
+                integrate::for_each_sensitivity(
                     &physics,
                     &layout.release(x, k),
                     run.times,
                     layout.damping,
                     run.max_step,
+                    |i, m, _, g| {
+                        let (y, w) = (run.angles[i], run.weights[i]);
+                        let r = m - y;
+                        rss += w * r * r;
+                        let mut gl = [0.0f64; MAX_LOCAL];
+                        gl[..p_loc].copy_from_slice(g);
+                        for a in 0..MAX_LOCAL.min(p_loc) {
+                            let ga = w * gl[a];
+                            b_acc[a] += ga * r;
+                            for b in a..MAX_LOCAL {
+                                acc[a][b] += ga * gl[b];
+                            }
+                        }
+                    },
                 )
                 .map_err(|e| e.to_string())?;
-                debug_assert_eq!(sens.n_params, p_loc);
-                let mut jtj = DMatrix::<f64>::zeros(p_loc, p_loc);
-                let mut jtr = DVector::<f64>::zeros(p_loc);
-                let mut rss = 0.0;
-                // Accumulate the upper triangle in a fixed buffer: this loop runs once per sample,
-                // so it avoids bounds checks and heap access (p_loc ≤ MAX_LOCAL).
-                let mut acc = [[0.0f64; MAX_LOCAL]; MAX_LOCAL];
-                let mut b_acc = [0.0f64; MAX_LOCAL];
-                for (((g, m), y), w) in
-                    sens.d_angle.chunks_exact(p_loc).zip(&tr.angle).zip(run.angles).zip(run.weights)
-                {
-                    let r = m - y;
-                    rss += w * r * r;
-                    let mut gl = [0.0f64; MAX_LOCAL];
-                    gl[..p_loc].copy_from_slice(g);
-                    for a in 0..MAX_LOCAL.min(p_loc) {
-                        let ga = w * gl[a];
-                        b_acc[a] += ga * r;
-                        for b in a..MAX_LOCAL {
-                            acc[a][b] += ga * gl[b];
-                        }
-                    }
-                }
                 for a in 0..p_loc {
                     jtr[a] = b_acc[a];
                     for b in a..p_loc {

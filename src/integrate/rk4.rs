@@ -201,15 +201,31 @@ pub(crate) fn run<const NP: usize>(
     max_step: f64,
 ) -> Result<(Trajectory, Vec<f64>), IntegrateError> {
     let n = times.len();
-    let mut traj = Trajectory {
-        times: times.to_vec(),
-        angle: Vec::with_capacity(n),
-        velocity: Vec::with_capacity(n),
-        events: Vec::new(),
-    };
+    let mut angle = Vec::with_capacity(n);
+    let mut velocity = Vec::with_capacity(n);
     let mut sens = Vec::with_capacity(n * NP);
+    let events = run_into::<NP>(physics, release, times, terms, max_step, &mut |th, om, st| {
+        angle.push(th);
+        velocity.push(om);
+        sens.extend_from_slice(st);
+    })?;
+    Ok((Trajectory { times: times.to_vec(), angle, velocity, events }, sens))
+}
+
+/// The driver behind [`run`]: hands θ, ω and ∂θ/∂p of every sample, in order, to `sink`
+/// instead of storing them, and returns the events.
+pub(crate) fn run_into<const NP: usize>(
+    physics: &Physics,
+    release: &Release,
+    times: &[f64],
+    terms: DampingSet,
+    max_step: f64,
+    sink: &mut impl FnMut(f64, f64, &[f64; NP]),
+) -> Result<Vec<Event>, IntegrateError> {
+    let n = times.len();
+    let mut events = Vec::new();
     if n == 0 {
-        return Ok((traj, sens));
+        return Ok(events);
     }
     let field = Field {
         rhs: Rhs::new(physics, release.equilibrium),
@@ -226,15 +242,10 @@ pub(crate) fn run<const NP: usize>(
     if mode == Mode::Stuck {
         x.om = 0.0;
         x.so = [0.0; NP];
-        traj.events.push(Event::Stick { t: times[0], angle: x.th });
+        events.push(Event::Stick { t: times[0], angle: x.th });
     }
-    let mut events = std::mem::take(&mut traj.events);
-    let push = |traj: &mut Trajectory, sens: &mut Vec<f64>, th: f64, om: f64, st: &[f64; NP]| {
-        traj.angle.push(th);
-        traj.velocity.push(om);
-        sens.extend_from_slice(st);
-    };
-    push(&mut traj, &mut sens, x.th, x.om, &x.st);
+    let mut push = |th: f64, om: f64, st: &[f64; NP]| sink(th, om, st);
+    push(x.th, x.om, &x.st);
     let mut t = times[0];
     let mut i = 1; // next sample to record
     // The derivative at the current state, carried from the end of one step to the next.
@@ -242,7 +253,7 @@ pub(crate) fn run<const NP: usize>(
     while i < n {
         let Mode::Moving(_) = mode else {
             // At rest for good: every later sample is the rest state.
-            push(&mut traj, &mut sens, x.th, 0.0, &x.st);
+            push(x.th, 0.0, &x.st);
             i += 1;
             continue;
         };
@@ -276,14 +287,14 @@ pub(crate) fn run<const NP: usize>(
                     } else {
                         p.at(times[pending])
                     };
-                    push(&mut traj, &mut sens, th, om, &st);
+                    push(th, om, &st);
                     pending += 1;
                 }
             },
         );
         // Samples after a stick inside this step (pieces end at the stick).
         while pending <= last {
-            push(&mut traj, &mut sens, x.th, 0.0, &x.st);
+            push(x.th, 0.0, &x.st);
             pending += 1;
         }
         if !(x.th.is_finite() && x.om.is_finite()) {
@@ -292,8 +303,7 @@ pub(crate) fn run<const NP: usize>(
         t = t_end;
         i = last + 1;
     }
-    traj.events = events;
-    Ok((traj, sens))
+    Ok(events)
 }
 
 /// Advance one step [t, t + h], handling every ω = 0 event inside it and reporting each piece
