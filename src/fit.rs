@@ -175,7 +175,9 @@ pub enum FitError {
     #[error("{0}")]
     Setup(String),
     /// No start values could be found.
-    #[error("{log}: no start values: {reason}")]
+    #[error(
+        "{log}: no start values: {reason}; the log needs at least two full swings about a clear equilibrium"
+    )]
     NoStart {
         /// Log(s) at fault.
         log: String,
@@ -183,7 +185,9 @@ pub enum FitError {
         reason: String,
     },
     /// The optimiser did not converge.
-    #[error("fit did not converge with damping {damping}: {reason}")]
+    #[error(
+        "fit did not converge with damping {damping}: {reason}; check the log with `swingfit check`, or try another --damping set (`swingfit compare` tries them all)"
+    )]
     NotConverged {
         /// Damping set.
         damping: DampingSet,
@@ -199,7 +203,9 @@ pub enum FitError {
         term: Term,
     },
     /// The normal equations are singular.
-    #[error("fit rejected: singular normal equations with damping {damping}: {detail}")]
+    #[error(
+        "fit rejected: singular normal equations with damping {damping}: {detail}; fit fewer terms, or add a release at a clearly different amplitude"
+    )]
     Singular {
         /// Damping set.
         damping: DampingSet,

@@ -98,11 +98,8 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
                     rig: spec.rig.clone(),
                     operator: spec.operator.clone(),
                     notes: spec.notes.clone(),
-                    mass: Some((spec.physical.mass.value, spec.physical.mass.u)),
-                    pivot_to_cg: Some((
-                        spec.physical.pivot_to_cg.value,
-                        spec.physical.pivot_to_cg.u,
-                    )),
+                    mass: Some(spec.physical.mass),
+                    pivot_to_cg: Some(spec.physical.pivot_to_cg),
                     gravity: Some(spec.gravity_words.clone()),
                 },
                 logs: spec
@@ -139,8 +136,8 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
                 identity: Identity {
                     id: name.clone(),
                     name,
-                    mass: physical.as_ref().map(|a| (a.mass.value, a.mass.u)),
-                    pivot_to_cg: physical.as_ref().map(|a| (a.pivot_to_cg.value, a.pivot_to_cg.u)),
+                    mass: physical.as_ref().map(|a| a.mass),
+                    pivot_to_cg: physical.as_ref().map(|a| a.pivot_to_cg),
                     gravity: physical.as_ref().map(|a| a.gravity.describe()),
                     ..Identity::default()
                 },

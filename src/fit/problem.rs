@@ -161,17 +161,6 @@ impl TrajectoryProblem<'_> {
         )
         .map_err(|e| e.to_string())
     }
-
-    /// Residuals (model − measured) of every run at `x`.
-    pub fn residuals(&self, x: &DVector<f64>) -> Result<Vec<Vec<f64>>, String> {
-        (0..self.runs.len())
-            .into_par_iter()
-            .map(|k| {
-                let tr = self.trajectory(x, k)?;
-                Ok(tr.angle.iter().zip(self.runs[k].angles).map(|(m, y)| m - y).collect())
-            })
-            .collect()
-    }
 }
 
 impl LeastSquares for TrajectoryProblem<'_> {

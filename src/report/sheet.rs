@@ -88,9 +88,9 @@ pub struct Identity {
     /// Notes.
     pub notes: Option<String>,
     /// Mass [kg] and standard uncertainty, when known.
-    pub mass: Option<(f64, f64)>,
+    pub mass: Option<crate::physical::Measured>,
     /// Pivot-to-CG distance [m] and standard uncertainty, when known.
-    pub pivot_to_cg: Option<(f64, f64)>,
+    pub pivot_to_cg: Option<crate::physical::Measured>,
     /// Gravity in words.
     pub gravity: Option<String>,
 }
@@ -537,10 +537,10 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             rig: id.rig.clone(),
             operator: id.operator.clone(),
             notes: id.notes.clone(),
-            mass: id.mass.map(|(value, std)| wire::Measured { value, std, unit: "kg" }),
-            pivot_to_cg: id.pivot_to_cg.map(|(value, std)| wire::Measured {
-                value,
-                std,
+            mass: id.mass.map(|m| wire::Measured { value: m.value, std: m.u, unit: "kg" }),
+            pivot_to_cg: id.pivot_to_cg.map(|d| wire::Measured {
+                value: d.value,
+                std: d.u,
                 unit: "m",
             }),
             gravity: id.gravity.clone(),

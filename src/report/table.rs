@@ -76,9 +76,16 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
     for (t, e) in &fit.terms {
         row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
     }
-    let period = 2.0 * std::f64::consts::PI / fit.omega_n.value;
-    let _ =
-        writeln!(o, "  {:<34} {:>16}    {:<10} s", "small-amplitude period T0", num(period, 7), "");
+    // T0 = 2π/ωn: its interval is ωn's, mapped through (relative widths are equal).
+    let w = &fit.omega_n;
+    let tau = 2.0 * std::f64::consts::PI;
+    let period = Estimate {
+        value: tau / w.value,
+        std: tau / w.value * w.std / w.value,
+        ci95: (tau / w.ci95.1, tau / w.ci95.0),
+        unit: "s",
+    };
+    row(&mut o, "small-amplitude period T0", &period);
     if let Some(p) = physical {
         let _ = writeln!(o);
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
