@@ -16,6 +16,8 @@
 //! Formulas of the compound pendulum: CHECKS.md §1 and §3 `[common practice]`, e.g. Thomson &
 //! Dahleh, *Theory of Vibration with Applications*, 5th ed., 1998, ch. 2 `[memory]`.
 
+pub mod budget;
+
 use std::f64::consts::PI;
 
 use nalgebra::DMatrix;
@@ -427,6 +429,8 @@ pub struct PhysicalCoefficients {
     pub quality_factor: Option<Quantity>,
     /// The gravity used.
     pub gravity: Gravity,
+    /// The GUM budget of every value above ([`budget`]), in report order.
+    pub budgets: Vec<budget::Budget>,
 }
 
 /// The 7 × 7 covariance Σ of z = (m, d, g, ωn, b1, b0, b2): u² of m, d, g on the diagonal,
@@ -560,5 +564,6 @@ pub fn physical_coefficients(
         log_decrement: if viscous { quantity(Coefficient::LogDecrement) } else { None },
         quality_factor: if viscous { quantity(Coefficient::QualityFactor) } else { None },
         gravity: inputs.gravity.clone(),
+        budgets: budget::budgets(&point, &sigma, fit.terms),
     })
 }

@@ -1,6 +1,7 @@
 //! Reports: terminal tables, JSON wire formats, plots, the coefficient sheet.
 
 pub mod atomic;
+pub mod budget;
 pub mod json;
 pub mod plot;
 pub mod sheet;

@@ -90,6 +90,9 @@ pub struct FitArgs {
     /// Draw the measured angle with the fitted model to FILE (.svg or .png).
     #[arg(long, value_name = "FILE.svg|FILE.png")]
     pub plot: Option<PathBuf>,
+    /// Print the GUM uncertainty budget of every physical value (needs --mass and --pivot-to-cg).
+    #[arg(long)]
+    pub budget: bool,
 }
 
 /// Load every log, or fail on the first bad one.
@@ -155,6 +158,11 @@ pub fn run(args: &FitArgs) -> CmdResult {
         plot::check_chart_path(p).map_err(Failure::input)?;
     }
     let article = article(&args.article)?;
+    if args.budget && article.is_none() {
+        return Err(Failure::input(
+            "--budget needs the physical inputs: give --mass and --pivot-to-cg (with their --mass-std and --pivot-to-cg-std)",
+        ));
+    }
     let logs = load_all(&args.logs, &args.loader)?;
     let outcome = fit::fit(&logs, &options).map_err(Failure::rejected)?;
     let physical = physical_of(&outcome, article.as_ref())?;
@@ -175,5 +183,9 @@ pub fn run(args: &FitArgs) -> CmdResult {
         plot::write_chart(&chart, path).map_err(Failure::input)?;
     }
     print!("{}", table::fit_table(&outcome, physical.as_ref()));
+    if let (true, Some(p)) = (args.budget, &physical) {
+        println!();
+        print!("{}", crate::report::budget::budget_table(&p.budgets));
+    }
     Ok(())
 }

@@ -15,7 +15,11 @@
 //!            "convergence", "condition_number", "interval_method", "t95" },
 //!   "correlation": { "names": […], "matrix": [[…]] },
 //!   "vector": { "fitted": […], "start": […] },      parameter vectors in correlation.names order
-//!   "flags": ["…"] }
+//!   "flags": ["…"],
+//!   "budget": [ { "quantity", "value", "unit", "std",                 only with `physical`
+//!                 "inputs": [ { "input", "value", "unit", "std", "sensitivity",
+//!                               "sensitivity_unit", "contribution", "share" } ],
+//!                 "correlations": [ { "a", "b", "r", "term", "term_unit", "share" } ] } ] }
 //! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
 //! ```
 //! Units: omega_n rad/s; normalized viscous 1/s, coulomb rad/s², quadratic 1/rad; physical inertia
@@ -223,6 +227,106 @@ pub struct FitDoc {
     pub vector: Vector,
     /// Warnings in words.
     pub flags: Vec<String>,
+    /// GUM budget of every physical value (with `physical`).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub budget: Vec<BudgetDoc>,
+}
+
+/// One input of a budget on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct BudgetInputDoc {
+    /// Input key (`mass`, `pivot_to_cg`, `gravity`, `omega_n`, `viscous`, …).
+    pub input: &'static str,
+    /// Value of the input.
+    pub value: f64,
+    /// Unit of the input.
+    pub unit: &'static str,
+    /// Standard uncertainty u(x_i), unit of the input.
+    pub std: f64,
+    /// Sensitivity coefficient c_i = dy/dx_i.
+    pub sensitivity: f64,
+    /// Unit of c_i.
+    pub sensitivity_unit: String,
+    /// u_i(y) = |c_i| u(x_i), unit of y.
+    pub contribution: f64,
+    /// c_i² u²(x_i) / u_c², unit 1.
+    pub share: f64,
+}
+
+/// One correlation term of a budget on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct BudgetCorrelationDoc {
+    /// First input key.
+    pub a: &'static str,
+    /// Second input key.
+    pub b: &'static str,
+    /// r(x_a, x_b), unit 1.
+    pub r: f64,
+    /// 2 c_a c_b u(x_a, x_b), unit of y squared.
+    pub term: f64,
+    /// Unit of `term`.
+    pub term_unit: String,
+    /// term / u_c², unit 1 (negative: the correlation lowers u_c).
+    pub share: f64,
+}
+
+/// The GUM budget of one physical value on the wire.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct BudgetDoc {
+    /// Key of the value in `physical`.
+    pub quantity: &'static str,
+    /// Value.
+    pub value: f64,
+    /// Unit.
+    pub unit: &'static str,
+    /// Combined standard uncertainty u_c.
+    pub std: f64,
+    /// The inputs.
+    pub inputs: Vec<BudgetInputDoc>,
+    /// The non-zero correlation terms.
+    pub correlations: Vec<BudgetCorrelationDoc>,
+}
+
+fn unit_ratio(y: &str, x: &str) -> String {
+    let wrap = |u: &str| if u.contains(['*', '/']) { format!("({u})") } else { u.to_string() };
+    if y == "1" { format!("1/{}", wrap(x)) } else { format!("{}/{}", wrap(y), wrap(x)) }
+}
+
+/// The wire form of a budget.
+pub fn budget_doc(b: &crate::physical::budget::Budget) -> BudgetDoc {
+    let squared = if b.unit == "1" { "1".to_string() } else { format!("({})^2", b.unit) };
+    BudgetDoc {
+        quantity: b.key,
+        value: b.value,
+        unit: b.unit,
+        std: b.u_c,
+        inputs: b
+            .inputs
+            .iter()
+            .map(|l| BudgetInputDoc {
+                input: l.key,
+                value: l.value,
+                unit: l.unit,
+                std: l.u,
+                sensitivity: l.sensitivity,
+                sensitivity_unit: unit_ratio(b.unit, l.unit),
+                contribution: l.contribution,
+                share: l.share,
+            })
+            .collect(),
+        correlations: b
+            .correlations
+            .iter()
+            .map(|c| BudgetCorrelationDoc {
+                a: c.a,
+                b: c.b,
+                r: c.r,
+                term: c.term,
+                term_unit: squared.clone(),
+                share: c.share,
+            })
+            .collect(),
+    }
 }
 
 /// Build the wire document of a fit.
@@ -293,6 +397,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             start: fit.start.iter().copied().collect(),
         },
         flags: fit.flags.clone(),
+        budget: physical.map(|p| p.budgets.iter().map(budget_doc).collect()).unwrap_or_default(),
     }
 }
 

@@ -1,6 +1,7 @@
 //! End-to-end tests: each module runs the real `swingfit` binary on files in a temp dir.
 
 mod batch;
+mod budget;
 mod check;
 #[path = "../browser/chromium.rs"]
 mod chromium;

@@ -125,6 +125,7 @@ fn physical() -> PhysicalCoefficients {
         log_decrement: None,
         quality_factor: None,
         gravity: Gravity::standard(),
+        budgets: Vec::new(),
     }
 }
 
