@@ -147,6 +147,12 @@ struct RawRun {
     counts_per_rev: Option<Spanned<f64>>,
     #[serde(default)]
     drop_bad_rows: bool,
+    #[serde(default)]
+    from: Option<Spanned<f64>>,
+    #[serde(default)]
+    to: Option<Spanned<f64>>,
+    #[serde(default)]
+    keep_slips: bool,
 }
 
 #[derive(Deserialize)]
@@ -299,6 +305,17 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
                 )),
             }
         };
+        let time_key = |v: &Option<Spanned<f64>>, k: &str| -> Result<Option<f64>, ArticleError> {
+            match v {
+                None => Ok(None),
+                Some(x) if x.get_ref().is_finite() => Ok(Some(*x.get_ref())),
+                Some(x) => Err(cx.at(
+                    x.span(),
+                    &key(k),
+                    format!("expected a time in s on the log's axis, found {}", x.get_ref()),
+                )),
+            }
+        };
         let time_unit = unit(&r.time_unit, "time_unit", &["s", "ms", "us"])?;
         let angle_unit = unit(&r.angle_unit, "angle_unit", &["rad", "deg", "counts"])?;
         let counts_per_rev = match &r.counts_per_rev {
@@ -318,6 +335,9 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
                 angle_unit,
                 counts_per_rev,
                 drop_bad_rows: r.drop_bad_rows,
+                from_s: time_key(&r.from, "from")?,
+                to_s: time_key(&r.to, "to")?,
+                keep_slips: r.keep_slips,
             },
         });
     }

@@ -271,15 +271,14 @@ pub fn fit_input(input: &Input, settings: &BatchSettings) -> Row {
 
 /// Load and fit one log.
 fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
-    let log = data::load(path, &settings.load)
+    let found = data::load_runs(path, &settings.load)
         .map_err(|e| RowError { kind: ErrorKind::Input, message: e.to_string() })?;
-    let dropped_rows = log.dropped_lines().len();
+    let dropped_rows = found.runs.first().map_or(0, |l| l.dropped_lines().len());
     let rejected = |m: String| RowError {
         kind: ErrorKind::Rejected,
         message: format!("{}: {m}", path.display()),
     };
-    let outcome =
-        fit::fit(std::slice::from_ref(&log), &settings.fit).map_err(|e| rejected(e.to_string()))?;
+    let outcome = fit::fit(&found.runs, &settings.fit).map_err(|e| rejected(e.to_string()))?;
     let physical = match &settings.article {
         Some(a) => Some(
             physical::physical_coefficients(a, &outcome.dynamics())
@@ -314,8 +313,11 @@ pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowE
     let logs: Vec<data::AngleLog> = spec
         .runs
         .iter()
-        .map(|r| data::load(&r.log, &r.load).map_err(|e| input(e.to_string())))
-        .collect::<Result<_, _>>()?;
+        .map(|r| data::load_runs(&r.log, &r.load).map_err(|e| input(e.to_string())))
+        .collect::<Result<Vec<_>, _>>()?
+        .into_iter()
+        .flat_map(|f| f.runs)
+        .collect();
     let dropped_rows = logs.iter().map(|l| l.dropped_lines().len()).sum();
     let damping = match spec.damping {
         DampingChoice::Terms(set) => set,

@@ -92,6 +92,15 @@ pub struct LoaderArgs {
     /// Drop rows with unparseable or non-finite values (reported) instead of refusing the file.
     #[arg(long)]
     pub drop_bad_rows: bool,
+    /// Fit from this time on the log's time axis [s] (default: the detected release).
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
+    pub from: Option<f64>,
+    /// Fit up to this time on the log's time axis [s] (default: the detected end of free motion).
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
+    pub to: Option<f64>,
+    /// Fit time-base slips as logged instead of re-timing them.
+    #[arg(long)]
+    pub keep_slips: bool,
 }
 
 impl LoaderArgs {
@@ -104,6 +113,9 @@ impl LoaderArgs {
             angle_unit: self.angle_unit.clone(),
             counts_per_rev: self.counts_per_rev,
             drop_bad_rows: self.drop_bad_rows,
+            from_s: self.from,
+            to_s: self.to,
+            keep_slips: self.keep_slips,
         }
     }
 }

@@ -6,6 +6,8 @@
 //! downstream may assume a fixed rate.
 
 mod read;
+pub mod segment;
+pub mod slips;
 pub mod survey;
 pub mod write;
 
@@ -72,6 +74,24 @@ impl AngleLog {
     pub fn dropped_lines(&self) -> &[u64] {
         &self.dropped_lines
     }
+
+    /// Samples `start..end` as a log of their own named `source`, with the same checks as the
+    /// loader (so a slice too short or without two swings is refused). Keeps the encoder step.
+    pub fn slice(&self, start: usize, end: usize, source: String) -> Result<AngleLog, LoadError> {
+        let end = end.min(self.len());
+        let start = start.min(end);
+        let times = self.times[start..end].to_vec();
+        let angles = self.angles[start..end].to_vec();
+        let lines: Vec<u64> = (start as u64 + 1..=end as u64).collect();
+        validate(&source, &times, &angles, &lines, "sample")?;
+        Ok(AngleLog {
+            source,
+            times,
+            angles,
+            angle_step: self.angle_step,
+            dropped_lines: self.dropped_lines.clone(),
+        })
+    }
 }
 
 /// How to read a file: column choice, units, tolerance of bad rows.
@@ -89,6 +109,13 @@ pub struct LoadOptions {
     pub counts_per_rev: Option<f64>,
     /// Drop unparseable or non-finite rows instead of refusing the file.
     pub drop_bad_rows: bool,
+    /// Fit from this time on the log's axis [s] instead of the detected release
+    /// (see [`segment`]).
+    pub from_s: Option<f64>,
+    /// Fit up to this time on the log's axis [s] instead of the detected end of free motion.
+    pub to_s: Option<f64>,
+    /// Fit time-base slips as logged instead of re-timing them (see [`slips`]).
+    pub keep_slips: bool,
 }
 
 /// A load failure: the file, the 1-based line when one is at fault, and what was expected.
@@ -112,6 +139,33 @@ pub fn load(path: &Path, opts: &LoadOptions) -> Result<AngleLog, LoadError> {
         kind: format!("cannot read file: {}", e.to_string().to_lowercase()),
     })?;
     parse(&name, &bytes, opts)
+}
+
+/// Read the log at `path` and cut it to its free segments (see [`segment::free_runs`]): one
+/// log per release, or the `from_s`/`to_s` window of `opts`. What was cut is in the notes.
+pub fn load_runs(path: &Path, opts: &LoadOptions) -> Result<segment::FreeRuns, LoadError> {
+    let log = load(path, opts)?;
+    let mut slip_note = None;
+    let log = if opts.keep_slips {
+        log
+    } else {
+        let s = survey::survey(&log);
+        if s.slips.count() > 0 {
+            slip_note = Some(format!(
+                "{}: {} time-base slips re-timed ({}); --keep-slips fits them as logged",
+                log.source(),
+                s.slips.count(),
+                slips::describe(&s.slips)
+            ));
+        }
+        slips::retime(&log, &s.slips)?
+    };
+    let mut runs =
+        segment::free_runs(&log, segment::Window { from_s: opts.from_s, to_s: opts.to_s })?;
+    if let Some(n) = slip_note {
+        runs.notes.insert(0, n);
+    }
+    Ok(runs)
 }
 
 /// Parse and validate log bytes; `name` is used in messages. Never panics, on any input.

@@ -9,13 +9,18 @@
 //! (null when the log does not end at rest), `equilibrium_rad`, `period_s` (null when too few
 //! crossings), `period_small_amplitude_s` (T0 with each half cycle corrected for its amplitude),
 //! `crossings`, `half_cycles` (peaks found), `first_peak_rad`, `noise_rad`,
-//! `encoder_step_rad` (null unless counts), `dropped_lines` (1-based file lines).
+//! `encoder_step_rad` (null unless counts), `dropped_lines` (1-based file lines),
+//! `free_segments` (list of `{start_s, end_s, samples, start, end}` with the causes in words),
+//! `still` (list of `{from_s, to_s, deflection_rad, held}`), `forced_half_cycles` (list of
+//! `[from_s, to_s]`), `no_free_segment` (the reason, or null), and `slips`
+//! (`{count, doubled, repeated, phase_late, phase_early, bursts, period_s, judged_steps, first_s}`).
 
 use clap::Args;
 use serde::Serialize;
 
 use super::{CmdResult, Failure, LoaderArgs};
-use crate::data::{self, survey};
+use crate::data::slips::SlipKind;
+use crate::data::{self, segment, survey};
 use crate::units::to_degrees;
 
 /// Arguments of `check`.
@@ -51,6 +56,41 @@ struct CheckJson<'a> {
     noise_rad: f64,
     encoder_step_rad: Option<f64>,
     dropped_lines: &'a [u64],
+    free_segments: Vec<SegmentJson>,
+    still: Vec<StillJson>,
+    forced_half_cycles: Vec<[f64; 2]>,
+    no_free_segment: Option<String>,
+    slips: SlipsJson,
+}
+
+#[derive(Serialize)]
+struct SegmentJson {
+    start_s: f64,
+    end_s: f64,
+    samples: usize,
+    start: String,
+    end: String,
+}
+
+#[derive(Serialize)]
+struct StillJson {
+    from_s: f64,
+    to_s: f64,
+    deflection_rad: f64,
+    held: bool,
+}
+
+#[derive(Serialize)]
+struct SlipsJson {
+    count: usize,
+    doubled: usize,
+    repeated: usize,
+    phase_late: usize,
+    phase_early: usize,
+    bursts: usize,
+    period_s: Option<f64>,
+    judged_steps: usize,
+    first_s: Vec<f64>,
 }
 
 #[derive(Serialize)]
@@ -63,6 +103,7 @@ struct GapJson {
 pub fn run(args: &CheckArgs) -> CmdResult {
     let log = data::load(&args.log, &args.loader.options()).map_err(Failure::input)?;
     let s = survey::survey(&log);
+    let seg = segment::segment(&log, &s);
     let dropped = log.dropped_lines();
     if !dropped.is_empty() {
         eprintln!(
@@ -96,13 +137,49 @@ pub fn run(args: &CheckArgs) -> CmdResult {
             noise_rad: s.noise_rad,
             encoder_step_rad: s.encoder_step_rad,
             dropped_lines: dropped,
+            free_segments: seg
+                .segments
+                .iter()
+                .map(|g| SegmentJson {
+                    start_s: g.start_s,
+                    end_s: g.end_s,
+                    samples: g.end - g.start,
+                    start: segment::start_words(&g.start_cause, g.start_s),
+                    end: segment::end_words(&g.end_cause, g.end_s),
+                })
+                .collect(),
+            still: seg
+                .still
+                .iter()
+                .map(|x| StillJson {
+                    from_s: x.from_s,
+                    to_s: x.to_s,
+                    deflection_rad: x.deflection_rad,
+                    held: x.held,
+                })
+                .collect(),
+            forced_half_cycles: seg.forced.iter().map(|&(a, b)| [a, b]).collect(),
+            no_free_segment: seg.refusal.clone(),
+            slips: SlipsJson {
+                count: s.slips.count(),
+                doubled: s.slips.count_of(SlipKind::Doubled),
+                repeated: s.slips.count_of(SlipKind::Repeated),
+                phase_late: s.slips.count_of(SlipKind::PhaseLate),
+                phase_early: s.slips.count_of(SlipKind::PhaseEarly),
+                bursts: s.slips.bursts,
+                period_s: s.slips.period_s,
+                judged_steps: s.slips.judged_steps,
+                first_s: s.slips.slips.iter().take(20).map(|x| x.t).collect(),
+            },
         };
         let text = serde_json::to_string_pretty(&j)
             .map_err(|e| Failure::input(format!("cannot write json: {e}")))?;
         println!("{text}");
         return Ok(());
     }
-    for (label, value) in summary_lines(log.source(), &s, dropped) {
+    let mut rows = summary_lines(log.source(), &s, dropped);
+    rows.extend(motion_lines(&s, &seg));
+    for (label, value) in rows {
         println!("{label:<14} {value}");
     }
     Ok(())
@@ -199,6 +276,65 @@ fn summary_lines(source: &str, s: &survey::Survey, dropped: &[u64]) -> Vec<(&'st
             "none".to_string()
         } else {
             format!("{}: {}", dropped.len(), list_lines(dropped))
+        },
+    ));
+    rows
+}
+
+/// The motion segments and the time-base slips, as (label, value) rows.
+fn motion_lines(s: &survey::Survey, seg: &segment::Segmentation) -> Vec<(&'static str, String)> {
+    let mut rows = Vec::new();
+    for x in &seg.still {
+        let what = if x.held {
+            format!("held at {:+.3} deg from the equilibrium", to_degrees(x.deflection_rad))
+        } else {
+            "at rest".to_string()
+        };
+        rows.push(("still", format!("{:.3} s to {:.3} s, {what}", x.from_s, x.to_s)));
+    }
+    if !seg.forced.is_empty() {
+        let list: Vec<String> =
+            seg.forced.iter().take(4).map(|(a, b)| format!("{a:.3}-{b:.3} s")).collect();
+        rows.push((
+            "forced",
+            format!(
+                "{} half cycle{} where the acceleration does not follow the restoring torque: {}{}",
+                seg.forced.len(),
+                if seg.forced.len() == 1 { "" } else { "s" },
+                list.join(", "),
+                if seg.forced.len() > 4 { ", ..." } else { "" }
+            ),
+        ));
+    }
+    match &seg.refusal {
+        Some(why) => rows.push(("free swing", format!("none: {why}"))),
+        None => {
+            for g in &seg.segments {
+                rows.push((
+                    "free swing",
+                    format!(
+                        "{:.3} s to {:.3} s ({} samples): {}; {}",
+                        g.start_s,
+                        g.end_s,
+                        g.end - g.start,
+                        segment::start_words(&g.start_cause, g.start_s),
+                        segment::end_words(&g.end_cause, g.end_s)
+                    ),
+                ));
+            }
+        }
+    }
+    rows.push((
+        "slips",
+        if s.slips.count() == 0 {
+            format!("none in {} fast steps judged", s.slips.judged_steps)
+        } else {
+            format!(
+                "{} time-base slips: {} (of {} fast steps judged)",
+                s.slips.count(),
+                data::slips::describe(&s.slips),
+                s.slips.judged_steps
+            )
         },
     ));
     rows

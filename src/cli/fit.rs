@@ -101,18 +101,23 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
     paths
         .iter()
         .map(|p| {
-            let log = crate::data::load(p, &opts).map_err(Failure::input)?;
-            if !log.dropped_lines().is_empty() {
+            let found = crate::data::load_runs(p, &opts).map_err(Failure::input)?;
+            let dropped = found.runs.first().map_or(0, |l| l.dropped_lines().len());
+            if dropped > 0 {
                 eprintln!(
                     "swingfit: {}: dropped {} bad row{} (--drop-bad-rows)",
                     p.display(),
-                    log.dropped_lines().len(),
-                    if log.dropped_lines().len() == 1 { "" } else { "s" }
+                    dropped,
+                    if dropped == 1 { "" } else { "s" }
                 );
             }
-            Ok(log)
+            for note in &found.notes {
+                eprintln!("swingfit: note: {note}");
+            }
+            Ok(found.runs)
         })
-        .collect()
+        .collect::<Result<Vec<Vec<AngleLog>>, Failure>>()
+        .map(|v| v.into_iter().flatten().collect())
 }
 
 /// The article's physical inputs, when mass and pivot-to-CG are both given.

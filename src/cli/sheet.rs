@@ -70,6 +70,9 @@ fn loader_of(o: &crate::data::LoadOptions) -> LoaderArgs {
         angle_unit: o.angle_unit.clone(),
         counts_per_rev: o.counts_per_rev,
         drop_bad_rows: o.drop_bad_rows,
+        from: o.from_s,
+        to: o.to_s,
+        keep_slips: o.keep_slips,
     }
 }
 

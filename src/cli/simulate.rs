@@ -161,6 +161,7 @@ pub fn run(args: &SimulateArgs) -> CmdResult {
                 angle_unit: None,
                 counts_per_rev: args.counts_per_rev,
                 drop_bad_rows: args.drop_bad_rows,
+                ..LoadOptions::default()
             };
             let log = data::load(path, &opts).map_err(Failure::input)?;
             (log.times().to_vec(), format!("times={}", path.display()))

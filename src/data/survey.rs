@@ -83,6 +83,8 @@ pub struct Survey {
     /// extreme sits next to a gap are left out (the true extreme may lie inside the gap). When the
     /// log starts with the article held still, the first peak is at the release.
     pub peaks: Vec<Peak>,
+    /// Time-base slips (samples stamped one interval off; see [`super::slips`]).
+    pub slips: super::slips::Slips,
 }
 
 /// Intervals over this multiple of the median interval are gaps.
@@ -164,6 +166,7 @@ pub fn survey(log: &AngleLog) -> Survey {
         encoder_step_rad: step,
         crossings: crossings.iter().map(|c| c.t).collect(),
         peaks,
+        slips: super::slips::detect(log, noise_rad),
     }
 }
 

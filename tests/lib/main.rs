@@ -10,6 +10,7 @@ mod lm;
 mod physical;
 mod reference;
 mod report;
+mod segment;
 mod stats;
 mod synth;
 mod tidy;
