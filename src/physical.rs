@@ -58,6 +58,21 @@ pub enum PhysicalError {
         /// The value found.
         value: f64,
     },
+    /// J about the CG came out negative: m d² exceeds the fitted J about the pivot. Never
+    /// reported as a value (no rigid body has it); the inputs or the log are wrong.
+    #[error(
+        "moment of inertia about the CG J - m d^2 = {j_cg:.4e} kg*m^2 is negative (U = {expanded:.1e}, k = 2): m d^2 = {md2:.4e} kg*m^2 exceeds the fitted J about the pivot {j:.4e} kg*m^2; check the mass and the pivot-to-CG distance, and that the log holds a free swing (a forced swing biases omega_n)"
+    )]
+    NegativeInertiaCg {
+        /// J − m d² [kg·m²].
+        j_cg: f64,
+        /// Its expanded uncertainty [kg·m²].
+        expanded: f64,
+        /// m d² [kg·m²].
+        md2: f64,
+        /// J about the pivot [kg·m²].
+        j: f64,
+    },
     /// The fit covariance does not match the fitted terms.
     #[error(
         "fit covariance is {rows}x{cols}, expected {expected}x{expected} (omega_n plus the fitted terms)"
@@ -551,9 +566,19 @@ pub fn physical_coefficients(
         })
     };
     let viscous = fit.terms.contains(Term::Viscous);
+    let inertia_pivot = always(Coefficient::InertiaPivot)?;
+    let inertia_cg = always(Coefficient::InertiaCg)?;
+    if inertia_cg.value <= 0.0 {
+        return Err(PhysicalError::NegativeInertiaCg {
+            j_cg: inertia_cg.value,
+            expanded: inertia_cg.expanded,
+            md2: inputs.mass.value * inputs.pivot_to_cg.value * inputs.pivot_to_cg.value,
+            j: inertia_pivot.value,
+        });
+    }
     Ok(PhysicalCoefficients {
-        inertia_pivot: always(Coefficient::InertiaPivot)?,
-        inertia_cg: always(Coefficient::InertiaCg)?,
+        inertia_pivot,
+        inertia_cg,
         gyration_pivot: always(Coefficient::GyrationPivot)?,
         gyration_cg: quantity(Coefficient::GyrationCg),
         equivalent_length: always(Coefficient::EquivalentLength)?,

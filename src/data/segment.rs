@@ -261,13 +261,8 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
     for _ in 0..4 {
         let Some(c) = reference_fit(&all, &keep) else { break };
         coef = Some(c);
-        let next: Vec<bool> = all
-            .iter()
-            .map(|hc| match judge(hc, &c) {
-                Judgement::Forced(_) => false,
-                _ => true,
-            })
-            .collect();
+        let next: Vec<bool> =
+            all.iter().map(|hc| !matches!(judge(hc, &c), Judgement::Forced(_))).collect();
         if next == keep || next.iter().filter(|&&k| k).count() < 2 {
             break;
         }
@@ -326,23 +321,13 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
         };
         if lead_forced > 0 && lead < hs.len() {
             start = hs[lead].start;
-            let first = vs[..lead]
-                .iter()
-                .find_map(|v| if let Judgement::Forced(r) = v { Some(*r) } else { None })
-                .unwrap_or(f64::NAN);
+            // The measured/predicted RMS acceleration of the first forced half cycle.
+            let first = vs.iter().position(|v| matches!(v, Judgement::Forced(_))).unwrap_or(0);
             start_cause = StartCause::AfterForcing {
                 half_cycles: lead_forced,
-                accel_ratio: 1.0 - first,
+                accel_ratio: hs.get(first).map_or(f64::NAN, |hc| accel_gain(hc, &c)),
                 from_s: t[a],
             };
-            // Report the measured/predicted ratio of the first forced half cycle.
-            if let Some(hc) =
-                hs.get(vs.iter().position(|v| matches!(v, Judgement::Forced(_))).unwrap_or(0))
-            {
-                if let StartCause::AfterForcing { accel_ratio, .. } = &mut start_cause {
-                    *accel_ratio = accel_gain(hc, &c);
-                }
-            }
         }
         let mut end = b;
         let mut end_cause = if post.is_some() { EndCause::Rest } else { EndCause::LogEnd };
@@ -494,18 +479,24 @@ fn half_cycles(
     // Split at reversals of the velocity, ignoring reversals inside the noise.
     let mut out = Vec::new();
     let mut cur: Vec<Deriv> = Vec::new();
-    let mut sign = 0.0f64;
+    let mut sign = 0i8;
     let mut start = a;
     for d in pts {
-        let s = d.omega.signum();
-        if sign != 0.0 && s != sign && d.omega != 0.0 {
+        let s: i8 = if d.omega > 0.0 {
+            1
+        } else if d.omega < 0.0 {
+            -1
+        } else {
+            0
+        };
+        if sign != 0 && s != 0 && s != sign {
             // Turning point: the extreme sample between the last point and this one.
             let from = cur.last().map_or(d.index, |p| p.index);
-            let turn = extreme_between(y, from, d.index, sign > 0.0);
+            let turn = extreme_between(y, from, d.index, sign > 0);
             out.push(HalfCycle { start, end: turn, points: std::mem::take(&mut cur) });
             start = turn;
         }
-        if d.omega != 0.0 {
+        if s != 0 {
             sign = s;
         }
         cur.push(d);

@@ -8,5 +8,6 @@ mod chromium;
 mod common;
 mod compare;
 mod fit;
+mod segment;
 mod sheet;
 mod simulate;

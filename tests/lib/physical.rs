@@ -240,8 +240,12 @@ fn bad_physical_inputs_are_errors() {
         physical::physical_coefficients(&good, &wrong_cov),
         Err(PhysicalError::Covariance { expected: 2, .. })
     ));
-    // Inconsistent article (d too long for the measured ωn): J_cg < 0, no radius of gyration about the CG.
+    // Inconsistent article (d too long for the measured ωn): J_cg < 0 is refused, never reported.
     let long = inputs(ok_m, Measured { value: 5.0, u: 0.0 }, Gravity::standard(), 0.0);
-    let pc = physical::physical_coefficients(&long, &fit).unwrap();
-    assert!(pc.inertia_cg.value < 0.0 && pc.gyration_cg.is_none());
+    match physical::physical_coefficients(&long, &fit) {
+        Err(PhysicalError::NegativeInertiaCg { j_cg, md2, j, .. }) => {
+            assert!(j_cg < 0.0 && (md2 - 25.0).abs() < 1e-12 && (j_cg - (j - md2)).abs() < 1e-9);
+        }
+        other => panic!("expected a refusal of the negative J_cg, found {other:?}"),
+    }
 }
