@@ -8,6 +8,7 @@ mod fit;
 mod integrate;
 mod lm;
 mod physical;
+mod realdata;
 mod reference;
 mod report;
 mod segment;
