@@ -11,6 +11,7 @@ mod batch;
 mod check;
 mod compare;
 pub mod fit;
+mod plan;
 pub mod sheet;
 mod simulate;
 
@@ -69,6 +70,8 @@ enum Command {
     Sheet(sheet::SheetArgs),
     /// Fit many logs, one fit each, in parallel, and write a summary row per log.
     Batch(batch::BatchArgs),
+    /// Predict the uncertainties of a test not yet run, or find the least test meeting targets.
+    Plan(plan::PlanArgs),
 }
 
 /// Loader options shared by every command that reads logs.
@@ -141,6 +144,7 @@ where
         Command::Compare(a) => compare::run(&a),
         Command::Sheet(a) => sheet::run(&a),
         Command::Batch(a) => batch::run(&a),
+        Command::Plan(a) => plan::run(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -55,6 +55,7 @@ pub mod fit;
 pub mod integrate;
 pub mod model;
 pub mod physical;
+pub mod plan;
 pub mod report;
 pub mod stats;
 pub mod units;

@@ -3,6 +3,7 @@
 pub mod atomic;
 pub mod budget;
 pub mod json;
+pub mod plan;
 pub mod plot;
 pub mod sheet;
 pub mod table;

@@ -5,7 +5,7 @@
 //! replayed over the measurement). Everything is checked and computed before anything is
 //! written, and `--out` is written atomically, so a bad input never leaves an output file.
 
-mod params;
+pub(super) mod params;
 
 use std::io::Write as _;
 use std::path::PathBuf;

@@ -8,6 +8,7 @@ mod chromium;
 mod common;
 mod compare;
 mod fit;
+mod plan;
 mod segment;
 mod sheet;
 mod simulate;

@@ -8,6 +8,7 @@ mod fit;
 mod integrate;
 mod lm;
 mod physical;
+mod plan;
 mod realdata;
 mod reference;
 mod report;
