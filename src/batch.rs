@@ -19,6 +19,7 @@
 //!   "samples": n, "dropped_rows": n, "iterations": n, "rms_residual": r, "noise_floor": s,
 //!   "normalized": { "omega_n": P, "viscous": P, … },    fitted terms only
 //!   "physical": { "inertia_pivot": P, "viscous": P, … } only with mass and pivot-to-CG
+//!   "notes": [ "…" ]   what was cut before fitting (rest, holds, forced swings, re-timed slips)
 //! }
 //! ```
 //! `P` is the fit JSON's `{ "value", "std", "ci95": [lo, hi], "unit" }` (see
@@ -205,6 +206,9 @@ pub struct RowFit {
     pub terms: Vec<(Term, Estimate)>,
     /// Physical coefficients, with an article.
     pub physical: Option<PhysicalCoefficients>,
+    /// What was cut from the logs before fitting (rest, holds, forced swings, re-timed slips;
+    /// see [`crate::data::segment`]).
+    pub notes: Vec<String>,
 }
 
 /// One row of the summary.
@@ -274,6 +278,7 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
     let found = data::load_runs(path, &settings.load)
         .map_err(|e| RowError { kind: ErrorKind::Input, message: e.to_string() })?;
     let dropped_rows = found.runs.first().map_or(0, |l| l.dropped_lines().len());
+    let notes = found.notes.clone();
     let rejected = |m: String| RowError {
         kind: ErrorKind::Rejected,
         message: format!("{}: {m}", path.display()),
@@ -296,6 +301,7 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
         omega_n: outcome.omega_n.clone(),
         terms: outcome.terms.clone(),
         physical,
+        notes,
     })
 }
 
@@ -310,13 +316,17 @@ pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowE
         message: format!("{}: {m}", path.display()),
     };
     let spec = article::load(path).map_err(|e| input(e.to_string()))?;
+    let mut notes = Vec::new();
     let logs: Vec<data::AngleLog> = spec
         .runs
         .iter()
         .map(|r| data::load_runs(&r.log, &r.load).map_err(|e| input(e.to_string())))
         .collect::<Result<Vec<_>, _>>()?
         .into_iter()
-        .flat_map(|f| f.runs)
+        .flat_map(|f| {
+            notes.extend(f.notes);
+            f.runs
+        })
         .collect();
     let dropped_rows = logs.iter().map(|l| l.dropped_lines().len()).sum();
     let damping = match spec.damping {
@@ -343,6 +353,7 @@ pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowE
         omega_n: outcome.omega_n.clone(),
         terms: outcome.terms.clone(),
         physical: Some(physical),
+        notes,
     })
 }
 
@@ -471,6 +482,7 @@ struct JsonRow<'a> {
     noise_floor: Option<f64>,
     normalized: Option<serde_json::Map<String, serde_json::Value>>,
     physical: Option<serde_json::Map<String, serde_json::Value>>,
+    notes: Option<&'a [String]>,
 }
 
 fn p_value(p: P) -> serde_json::Value {
@@ -511,6 +523,7 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
                     noise_floor: Some(f.noise_floor),
                     normalized: Some(normalized),
                     physical,
+                    notes: Some(&f.notes),
                 }
             }
             Err(e) => JsonRow {
@@ -526,6 +539,7 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
                 noise_floor: None,
                 normalized: None,
                 physical: None,
+                notes: None,
             },
         };
         // Plain structs and string-keyed maps always serialize; NaN becomes null.
@@ -572,6 +586,7 @@ mod tests {
                     (Term::Coulomb, est(0.03, 2e-3, "rad/s^2")),
                 ],
                 physical: None,
+                notes: vec![],
             }),
         }
     }

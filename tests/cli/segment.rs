@@ -69,6 +69,17 @@ fn check_shows_the_hold_and_the_free_swing_and_fit_says_what_it_cut() {
     assert!(err.contains("note:") && err.contains("released at"), "{err}");
     let table = String::from_utf8_lossy(&fit.stdout).to_string();
     assert!(table.contains("natural frequency"), "{table}");
+
+    // batch fits the same free segment and records what it cut in the row's notes.
+    let out = dir.path().join("out");
+    swingfit().arg("batch").arg(&path).arg("--out").arg(&out).assert().success();
+    let jsonl = std::fs::read_to_string(out.join("summary.jsonl")).expect("jsonl");
+    let row: serde_json::Value =
+        serde_json::from_str(jsonl.lines().next().unwrap_or("")).expect("row");
+    let notes = row["notes"][0].as_str().unwrap_or("");
+    assert!(notes.contains("released at 7.99") || notes.contains("released at 8.0"), "{row}");
+    let samples = row["samples"].as_u64().unwrap_or(0);
+    assert!((5990..=6010).contains(&samples), "the 1600 held samples are not fitted: {samples}");
 }
 
 #[test]

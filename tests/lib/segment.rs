@@ -340,3 +340,15 @@ fn a_clean_fast_log_has_no_slips() {
     assert_eq!(survey(&log).slips.count(), 0);
     assert!(survey(&log).slips.judged_steps > 1000);
 }
+
+#[test]
+fn article_runs_carry_their_own_window() {
+    let text = "id = \"A\"\nname = \"a\"\n[mass]\nvalue = 1.0\nstd = 0.0\n[pivot_to_cg]\nvalue = 0.2\nstd = 0.0\n\n[[run]]\nlog = \"r.csv\"\nfrom = 8.5\nto = 40.0\nkeep_slips = true\n";
+    let spec = swingfit::article::parse("a.toml", text, std::path::Path::new("."))
+        .expect("article parses");
+    let load = &spec.runs[0].load;
+    assert_eq!((load.from_s, load.to_s, load.keep_slips), (Some(8.5), Some(40.0), true));
+    let bad = text.replace("from = 8.5", "from = \"soon\"");
+    let e = swingfit::article::parse("a.toml", &bad, std::path::Path::new(".")).expect_err("bad");
+    assert_eq!(e.line, Some(12), "{e}");
+}
