@@ -328,7 +328,7 @@ pub fn ellip_k(m: f64) -> f64 {
 }
 
 /// Ratio T/T0 of the undamped pendulum's period at amplitude `a` [rad] to its small-amplitude
-/// period: (2/π)·K(sin²(a/2)) (Abramowitz & Stegun 17.3.1 [memory]; CHECKS.md §2). The
+/// period: (2/π)·K(sin²(a/2)) (Abramowitz & Stegun 17.3.1 [memory]; docs/checks.md §2). The
 /// large-amplitude to the small-amplitude period for amplitude `a` [rad].
 pub fn period_ratio(a: f64) -> f64 {
     let s = (0.5 * a.abs().min(3.1)).sin();

@@ -13,7 +13,7 @@
 //! uncertainty U = k·u_c with k = 2 (§6.2.1 eq. 18, §6.3.3) `[memory]`. Sensitivities are analytic
 //! ([`value_and_gradient`]); a test checks them against central differences.
 //!
-//! Formulas of the compound pendulum: CHECKS.md §1 and §3 `[common practice]`, e.g. Thomson &
+//! Formulas of the compound pendulum: docs/checks.md §1 and §3 `[common practice]`, e.g. Thomson &
 //! Dahleh, *Theory of Vibration with Applications*, 5th ed., 1998, ch. 2 `[memory]`.
 
 pub mod budget;

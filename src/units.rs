@@ -106,7 +106,7 @@ mod tests {
 
     #[test]
     fn counts_step_matches_quadrature_table() {
-        // CHECKS §9 (Widrow & Kollár [memory]; quadrature ×4 [common practice]):
+        // docs/checks.md §9 (Widrow & Kollár [memory]; quadrature ×4 [common practice]):
         // 2500 lines → 10000 counts/rev → q = 0.000628318530718 rad.
         let q = AngleUnit::Counts.to_radians(Some(10000.0)).unwrap_or(f64::NAN);
         assert!((q - 0.000628318530718).abs() < 1e-15);

@@ -8,7 +8,7 @@
 //! - Gaps: intervals over [`GAP_FACTOR`] × the median. Nothing is interpolated across a gap.
 //! - Noise floor: the centre residual of a least-squares quadratic through 5 samples (actual
 //!   times), standardised by its leverage, robust std (1.4826 × median |e|); never below the
-//!   quantisation step/√12 for counts (Widrow & Kollár, CHECKS §9 \[memory\]).
+//!   quantisation step/√12 for counts (Widrow & Kollár, docs/checks.md §9 \[memory\]).
 //! - Extremes: turning points with a hysteresis of 10 noise std (or 2 encoder steps), each refined
 //!   by the parabola through the sample (or the middle of a flat top) and its two neighbours.
 //!   A log that starts still (article held, then let go) gets its first extreme at the release,
@@ -492,7 +492,7 @@ fn find_crossings(t: &[f64], y: &[f64], eq: f64, band: f64, gap_after: &[bool]) 
 
 /// Crossings of each half cycle's own midline, the mean of the two extremes that bound it.
 ///
-/// Under Coulomb friction each half cycle is harmonic about its own centre ±Δ (CHECKS §4), so
+/// Under Coulomb friction each half cycle is harmonic about its own centre ±Δ (docs/checks.md §4), so
 /// crossings of the global equilibrium drift later as the swing decays; crossings of the local
 /// midline fall exactly at the quarter points. Under viscous decay the local midline is offset by
 /// a fixed fraction of the amplitude, which shifts up and down crossings by constant times that

@@ -199,7 +199,7 @@ mod tests {
 
     #[test]
     fn counts_round_to_nearest_and_never_write_minus_zero() {
-        // 10000 counts/rev: step 0.036° (CHECKS.md section 9 table, [common practice]).
+        // 10000 counts/rev: step 0.036° (docs/checks.md §9 table, [common practice]).
         let q = count_step(10000.0).expect("step");
         assert!((q.to_degrees() - 0.036).abs() <= 1e-15);
         let a = [0.4 * q, -0.4 * q, 1.6 * q, -2.5 * q];

@@ -6,7 +6,7 @@
 //! - θeq from the survey (midline of the peaks); θ0 the first sample; ω0 from a local quadratic
 //!   fit to the first samples.
 //! - Damping from the half-cycle peak envelope: to first order in the damping, for linear stiffness
-//!   (energy balance per cycle; CHECKS.md §3–§5, Thomson & Dahleh §2.6–2.8 and §3.8 [memory]),
+//!   (energy balance per cycle; docs/checks.md §3–§5, Thomson & Dahleh §2.6–2.8 and §3.8 [memory]),
 //!   −dA/dt = (b1/2)·A + (2/π)·b0/ωn + (4/(3π))·b2·ωn·A². The decrements of successive peaks are
 //!   fitted by non-negative least squares over the chosen terms.
 
@@ -175,15 +175,15 @@ mod tests {
 
     #[test]
     fn elliptic_k_matches_table() {
-        // Abramowitz & Stegun Table 17.1 via CHECKS.md §2: K(0.5) = 1.8540746773013719184.
+        // Abramowitz & Stegun Table 17.1 via docs/checks.md §2: K(0.5) = 1.8540746773013719184.
         assert!((ellip_k(0.5) - 1.854_074_677_301_371_9).abs() < 1e-14);
-        // T/T0 at 90° = 1.180340599016096 (CHECKS.md §2).
+        // T/T0 at 90° = 1.180340599016096 (docs/checks.md §2).
         assert!((period_ratio(std::f64::consts::FRAC_PI_2) - 1.180_340_599_016_096).abs() < 1e-13);
     }
 
     #[test]
     fn envelope_recovers_each_law() {
-        // Synthetic envelopes following the first-order laws exactly (CHECKS.md §3–§5).
+        // Synthetic envelopes following the first-order laws exactly (docs/checks.md §3–§5).
         let w = 5.0;
         let half = std::f64::consts::PI / w;
         for (set, truth) in [

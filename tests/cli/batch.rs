@@ -256,7 +256,7 @@ fn physical_columns_appear_with_mass_and_pivot_to_cg() {
     let (header, rows) = read_csv(&out.path().join("summary.csv"));
     let j: f64 = rows[0][col(&header, "phys_inertia_pivot")].parse().expect("number");
     let wn: f64 = rows[0][col(&header, "omega_n")].parse().expect("number");
-    // J = m g d / ωn² with standard gravity 9.80665 (CHECKS.md §1, common practice).
+    // J = m g d / ωn² with standard gravity 9.80665 (docs/checks.md §1, common practice).
     let expected = 1.5 * 9.80665 * 0.2 / (wn * wn);
     assert!((j - expected).abs() < 1e-9 * expected, "J {j}, expected {expected}");
     assert!(header.iter().any(|h| h == "phys_coulomb_ci95_hi"));

@@ -196,7 +196,7 @@ fn good_file_summary_reads_at_a_glance() {
 /// Damped oscillator in encoder counts with millisecond stamps and an offset, written to a temp file.
 fn counts_log(path: &std::path::Path) {
     // θ = θeq + A e^{−σt} cos(ωd t): zero crossings exactly π/ωd apart (Thomson & Dahleh §2.6
-    // [memory], CHECKS §3). Values of the CHECKS §3 worked example: ωd = 3.83517519156557 rad/s.
+    // [memory], docs/checks.md §3). Values of the docs/checks.md §3 worked example: ωd = 3.83517519156557 rad/s.
     let (wd, sigma, eq, amp, cpr) = (3.83517519156557, 0.0375, 0.4, 0.6, 8192.0);
     let mut f = std::fs::File::create(path).unwrap_or_else(|e| panic!("temp file: {e}"));
     let mut text = String::from("# invented rig: counts and milliseconds\nt_ms,counts\n");
@@ -237,7 +237,7 @@ fn json_has_the_promised_keys_and_values() {
         assert!(v.get(key).is_some(), "missing key {key}");
     }
     assert_eq!(v["samples"].as_u64(), Some(4000));
-    let truth = 2.0 * PI / 3.83517519156557; // CHECKS §3: T_d = 1.63830463885920 s
+    let truth = 2.0 * PI / 3.83517519156557; // docs/checks.md §3: T_d = 1.63830463885920 s
     let period = v["period_s"].as_f64().unwrap_or(f64::NAN);
     assert!((period / truth - 1.0).abs() < 1e-3, "period {period} vs {truth}");
     let eq = v["equilibrium_rad"].as_f64().unwrap_or(f64::NAN);
@@ -245,7 +245,7 @@ fn json_has_the_promised_keys_and_values() {
     assert!((eq - 0.4).abs() < q, "equilibrium {eq}");
     let step = v["encoder_step_rad"].as_f64().unwrap_or(f64::NAN);
     assert!((step - q).abs() < 1e-15);
-    // Noise of a rounded signal is at least q/√12 (Widrow & Kollár, CHECKS §9 [memory]).
+    // Noise of a rounded signal is at least q/√12 (Widrow & Kollár, docs/checks.md §9 [memory]).
     assert!(v["noise_rad"].as_f64().unwrap_or(0.0) >= q / 12f64.sqrt());
     assert_eq!(v["gaps"].as_array().map(Vec::len), Some(0));
 }

@@ -210,7 +210,7 @@ fn demo_article_sheet_has_physical_coefficients() {
     assert_eq!(doc["provenance"]["inputs"][0]["role"], "article");
     let rows = doc["coefficients"].as_array().expect("rows");
     let j = rows.iter().find(|r| r["key"] == "inertia_pivot").expect("J");
-    // J = m g d / ωn² (CHECKS.md §1 [common practice]) with the article's m, d and standard g.
+    // J = m g d / ωn² (docs/checks.md §1 [common practice]) with the article's m, d and standard g.
     let w =
         rows.iter().find(|r| r["key"] == "omega_n").and_then(|r| r["value"].as_f64()).expect("ωn");
     let expect = 2.40 * 9.80665 * 0.215 / (w * w);

@@ -147,7 +147,7 @@ fn counts_are_whole_and_quantise_the_angle_to_one_step() {
     }
     let q = std::f64::consts::TAU / 4096.0;
     for (c, r) in counts.iter().zip(&rad) {
-        // Rounding: within half a step of the true angle (CHECKS.md section 9, Widrow & Kollár).
+        // Rounding: within half a step of the true angle (docs/checks.md §9, Widrow & Kollár).
         assert!((c * q - r).abs() <= 0.5 * q + 1e-12, "count {c} for {r} rad");
     }
     // For radian and degree output --counts-per-rev only scales a counts --times log: no rounding.
@@ -401,7 +401,7 @@ fn true_parameters_replay_the_demo_logs_to_their_noise_level() {
     // The demo logs were made by data/make_demo.py with the SciPy reference, Gaussian noise and
     // (counts log) rounding to 0.036°. Replaying the true parameters over their timestamps must
     // leave residuals of exactly that size: σ² = σn² + q²/12 (rounding error of variance q²/12,
-    // CHECKS.md section 9, Widrow & Kollár [memory]).
+    // docs/checks.md §9, Widrow & Kollár [memory]).
     let cases = [
         (
             "ba7_release60_true.json",

@@ -81,7 +81,7 @@ fn a_drifting_sensor_is_explained_by_no_candidate() {
 
 #[test]
 fn envelope_laws_are_told_apart() {
-    // Exact envelopes of each law (CHECKS.md §3–§5: exponential for viscous, linear for Coulomb,
+    // Exact envelopes of each law (docs/checks.md §3–§5: exponential for viscous, linear for Coulomb,
     // hyperbolic 1/A for quadratic) must each be ranked first.
     use swingfit::data::survey::Peak;
     let make = |f: &dyn Fn(f64) -> f64| -> Vec<Vec<Peak>> {

@@ -2,9 +2,9 @@
 //! survey on analytic swings whose period, equilibrium and sample count are known exactly.
 //!
 //! Reference signals: the linear damped oscillator θ = θeq + A e^{−σt} cos(ωd t) crosses θeq
-//! exactly every π/ωd (Thomson & Dahleh §2.6 [memory], CHECKS §3); the Coulomb oscillator swings
+//! exactly every π/ωd (Thomson & Dahleh §2.6 [memory], docs/checks.md §3); the Coulomb oscillator swings
 //! harmonically about ±Δ each half cycle with the undamped ωn and loses 2Δ per half cycle
-//! (Thomson & Dahleh §2.8 [memory], CHECKS §4).
+//! (Thomson & Dahleh §2.8 [memory], docs/checks.md §4).
 
 use std::f64::consts::PI;
 
@@ -14,7 +14,7 @@ use rand_distr::{Distribution, Normal};
 use swingfit::data::survey::survey;
 use swingfit::data::{AngleLog, LoadOptions, MIN_SAMPLES, parse};
 
-/// CHECKS §3 worked example: ωd [rad/s], σ [1/s], T_d [s].
+/// docs/checks.md §3 worked example: ωd [rad/s], σ [1/s], T_d [s].
 const WD: f64 = 3.83517519156557;
 const SIGMA: f64 = 0.0375;
 const TD: f64 = 1.63830463885920;
@@ -57,7 +57,7 @@ fn good_text(n: usize) -> String {
 
 #[test]
 fn encoder_counts_in_ms_with_offset() {
-    // 2500-line quadrature encoder: 10000 edges/rev, q = 0.000628318530718 rad (CHECKS §9).
+    // 2500-line quadrature encoder: 10000 edges/rev, q = 0.000628318530718 rad (docs/checks.md §9).
     let cpr = 10000.0;
     let q = 2.0 * PI / cpr;
     let mut s = String::from("# invented rig: encoder on the pivot shaft\nt_ms;counts\n");
@@ -78,9 +78,9 @@ fn encoder_counts_in_ms_with_offset() {
     assert!((sv.rate_hz - 100.0).abs() < 1e-6);
     assert!(sv.jitter < 1e-6);
     assert!(sv.gaps.is_empty());
-    // Widrow & Kollár (CHECKS §9 [memory]): rounding noise std is q/√12; the floor never goes below.
+    // Widrow & Kollár (docs/checks.md §9 [memory]): rounding noise std is q/√12; the floor never goes below.
     assert!(sv.noise_rad >= q / 12f64.sqrt() && sv.noise_rad < 2.0 * q, "noise {}", sv.noise_rad);
-    // Peaks alternate in sign and decay as e^{−σ t} (CHECKS §3).
+    // Peaks alternate in sign and decay as e^{−σ t} (docs/checks.md §3).
     assert!(sv.peaks.len() > 60);
     for w in sv.peaks.windows(2) {
         assert!(w[0].deflection * w[1].deflection < 0.0);
@@ -147,7 +147,7 @@ fn irregular_timestamps_with_dropped_segments() {
 
 #[test]
 fn coulomb_equilibrium_is_not_the_rest_angle() {
-    // CHECKS §4 worked example: k = 2, J = 0.05, τc = 0.01 → Δ = 0.005 rad, ωn = 6.32455532033676,
+    // docs/checks.md §4 worked example: k = 2, J = 0.05, τc = 0.01 → Δ = 0.005 rad, ωn = 6.32455532033676,
     // θ0 = 0.2037; 20 half cycles, rest at +0.0037 rad at t_stop = 9.93458826579610 s.
     let (wn, delta, a0, offset) = (6.32455532033676, 0.005, 0.2037, -0.2);
     let half = PI / wn;
@@ -175,7 +175,7 @@ fn coulomb_equilibrium_is_not_the_rest_angle() {
     assert!((p / (2.0 * half) - 1.0).abs() < 1e-3, "period {p}");
     let rest = sv.rest_from_s.unwrap_or(f64::NAN);
     assert!((rest - 9.93458826579610).abs() < 0.25, "rest from {rest}");
-    // Turning points lose 2Δ per half cycle (CHECKS §4).
+    // Turning points lose 2Δ per half cycle (docs/checks.md §4).
     let mags: Vec<f64> = sv.peaks.iter().map(|p| p.deflection.abs()).collect();
     assert!(mags.len() >= 15, "peaks {mags:?}");
     for w in mags.windows(2) {
@@ -415,7 +415,7 @@ fn held_then_released_puts_the_first_peak_at_the_release() {
 fn small_swing_period_corrects_a_large_release() {
     // A 70° release of an undamped-ish pendulum: the mean period is several per cent longer than
     // T0 = 2π/ωn, and the amplitude-corrected one must return T0 (T/T0 = (2/π)K(sin²(A/2)),
-    // Abramowitz & Stegun 17.3.1 [memory]; CHECKS.md §2).
+    // Abramowitz & Stegun 17.3.1 [memory]; docs/checks.md §2).
     use crate::synth::{Case, physics, release, uniform};
     let w = 5.0;
     let case = Case {

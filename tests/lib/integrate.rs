@@ -1,10 +1,10 @@
 //! Library tests: integrate.
 //!
 //! The integrators against outside sources (elliptic-integral periods, closed-form pendulum
-//! motion, textbook damping laws; values from /work/shared/CHECKS.md), against each other, and
+//! motion, textbook damping laws; values from docs/checks.md), against each other, and
 //! the forward sensitivities against central differences of `simulate`.
 //!
-//! CHECKS §3–§5 use a *linear* spring k·θ; the model has sin θ. Those checks run either at tiny
+//! docs/checks.md §3–§5 use a *linear* spring k·θ; the model has sin θ. Those checks run either at tiny
 //! amplitude, where sin θ = θ(1 − θ²/6 + …) and each tolerance below states the size of the
 //! neglected nonlinearity, or through relations that are exact for sin θ (§4 energy balance).
 
@@ -58,12 +58,12 @@ fn slope(x: &[f64], y: &[f64]) -> f64 {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Undamped: large-amplitude period and closed-form motion (CHECKS §2).
+// Undamped: large-amplitude period and closed-form motion (docs/checks.md §2).
 
 #[test]
 fn period_matches_elliptic_integral_table() {
     // T/T0 = (2/π)K(sin²(θ0/2)): Abramowitz & Stegun 17.3.1 / DLMF 19.2.8 [memory]; 16-digit
-    // values from CHECKS §2 (mpmath, three independent ways).
+    // values from docs/checks.md §2 (mpmath, three independent ways).
     let table = [
         (5.0, 1.000476172485987),
         (10.0, 1.001907188143217),
@@ -101,7 +101,7 @@ fn period_matches_elliptic_integral_table() {
 
 #[test]
 fn closed_form_motion_at_90_degrees() {
-    // sin(θ/2) = k·cd(ω0 t | m), values for θ0 = 90°, ω0 = 1 from CHECKS §2 (DLMF §22.19(i)
+    // sin(θ/2) = k·cd(ω0 t | m), values for θ0 = 90°, ω0 = 1 from docs/checks.md §2 (DLMF §22.19(i)
     // [memory]; agree with a 30-digit Taylor integration).
     let times = [0.0, 0.5, 1.0, 2.0, 3.0];
     let expected = [
@@ -156,12 +156,12 @@ fn energy_is_conserved_over_1000_periods() {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Viscous (CHECKS §3).
+// Viscous (docs/checks.md §3).
 
 #[test]
 fn viscous_log_decrement_and_damped_period() {
     // Thomson & Dahleh 5th ed. §2.6–2.7 [memory]: δ = 2πζ/√(1−ζ²), T_d = 2π/ω_d; worked example
-    // of CHECKS §3 (J = 2/3, k = 9.80665, c = 0.05 → b1 = 0.075 1/s).
+    // of docs/checks.md §3 (J = 2/3, k = 9.80665, c = 0.05 → b1 = 0.075 1/s).
     // Amplitude 1e-4 rad: sin θ ≈ θ to 1.7e-9 relative, so T_d and δ differ from the linear
     // values by ~1e-9 relative; tolerances 1e-8 (T_d) and 1e-6 (δ, a small difference of logs).
     let wn = 14.709975f64.sqrt();
@@ -184,11 +184,11 @@ fn viscous_log_decrement_and_damped_period() {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Coulomb (CHECKS §4).
+// Coulomb (docs/checks.md §4).
 
 #[test]
 fn coulomb_linear_worked_example_at_tiny_amplitude() {
-    // Thomson & Dahleh 5th ed. §2.8, Rao §2.9 [memory]; worked example of CHECKS §4: J = 0.05,
+    // Thomson & Dahleh 5th ed. §2.8, Rao §2.9 [memory]; worked example of docs/checks.md §4: J = 0.05,
     // k = 2, τc = 0.01, θ0 = 0.2037 → Δ = 0.005, turning points |θ_n| = θ0 − 2nΔ, N = 20,
     // θ_rest = +0.0037, t_stop = 9.93458826579610 s. The linear problem is invariant under
     // (θ, τc) → (sθ, sτc); with s = 1e-3 the sin θ error is ~θ²/6 ≈ 7e-9 relative (period
@@ -223,7 +223,7 @@ fn coulomb_linear_worked_example_at_tiny_amplitude() {
 
 #[test]
 fn coulomb_pendulum_exact_energy_balance() {
-    // Exact for the sin model (CHECKS §4, derived there and checked with mpmath):
+    // Exact for the sin model (docs/checks.md §4, derived there and checked with mpmath):
     // ωn²(cos a_{n+1} − cos a_n) = b0 (a_n + a_{n+1}); example mgd = 9.80665, J = 2/3,
     // τc = 0.05, a0 = 1 → a1 = 0.987907772656455988 at t = 0.872762050456633 s.
     let wn2: f64 = 14.709975;
@@ -268,7 +268,7 @@ fn release_inside_dead_band_stays_put() {
     let tr = simulate(&p2, &release(theta0, 0.0), &times, TIGHT).unwrap();
     assert_eq!(tr.events.len(), 1);
     // Kinetic level alone (0.399 > 0.3): it moves, and sticks at its first turning point a1 on
-    // the same side, given exactly by ωn²(cos a1 − cos θ0) = b0 (θ0 − a1) (CHECKS §4 energy
+    // the same side, given exactly by ωn²(cos a1 − cos θ0) = b0 (θ0 − a1) (docs/checks.md §4 energy
     // balance, one-sided form); 4 sin a1 ≈ 0.2 is inside the band.
     for method in [TIGHT, Method::Rk4 { max_step: 0.01 }] {
         let tr =
@@ -303,11 +303,11 @@ fn equilibrium_at_rest_without_friction_sticks_and_moving_never_does() {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Quadratic (CHECKS §5).
+// Quadratic (docs/checks.md §5).
 
 #[test]
 fn quadratic_exact_half_swing_map_and_amplitude_law() {
-    // Exact half-swing map [derived here, CHECKS §5 item 4] and the amplitude law
+    // Exact half-swing map [derived here, docs/checks.md §5 item 4] and the amplitude law
     // 1/A_n = 1/A0 + (8/3)(c_q/J) n (harmonic balance, Thomson & Dahleh §3.8 [memory]) for
     // J = 0.05, k = 2, c_q = 0.001, A0 = 0.5. Linear problem invariant under (θ, b2) → (sθ, b2/s);
     // s = 1e-3 leaves a sin θ error ~A²/16 ≈ 2e-8 relative, checked to 1e-7.
@@ -335,11 +335,11 @@ fn quadratic_exact_half_swing_map_and_amplitude_law() {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Full model reference trajectory (CHECKS §11).
+// Full model reference trajectory (docs/checks.md §11).
 
 #[test]
 fn full_model_reference_trajectory() {
-    // CHECKS §11 [derived here: mpmath odefun at 30 digits, scipy DOP853 agrees to 13 digits]:
+    // docs/checks.md §11 [derived here: mpmath odefun at 30 digits, scipy DOP853 agrees to 13 digits]:
     // J = 2/3, mgd = 9.80665, c = 0.01, τc = 0.005, c_q = 0.002, θ0 = 1 rad, θ'0 = 0.
     let j: f64 = 2.0 / 3.0;
     let p = physics((9.80665 / j).sqrt(), 0.01 / j, 0.005 / j, 0.002 / j);

@@ -3,7 +3,7 @@
 //! The least-squares core used as a library on plain residual functions, checked against the
 //! NIST StRD nonlinear-regression certified values (NIST ITL, *Statistical Reference Datasets,
 //! Nonlinear Regression*; files as shipped in lmfit 1.3.4 `NIST_STRD/`, see
-//! /work/shared/CHECKS.md §10): parameters and standard deviations s·√diag((JᵀJ)⁻¹) to ≥ 6
+//! docs/checks.md §10): parameters and standard deviations s·√diag((JᵀJ)⁻¹) to ≥ 6
 //! significant digits from both NIST starting points; plus bounds, scaling and error paths.
 
 use nalgebra::{DMatrix, DVector};
@@ -70,7 +70,7 @@ where
     assert!(sol.at_bound.is_empty());
 }
 
-// ---- Misra1a (NIST StRD, lower difficulty; CHECKS.md §10) ----
+// ---- Misra1a (NIST StRD, lower difficulty; docs/checks.md §10) ----
 const MISRA_X: [f64; 14] = [
     77.6, 114.9, 141.1, 190.8, 239.9, 289.0, 332.8, 378.4, 434.8, 477.3, 536.8, 593.1, 689.1, 760.0,
 ];
@@ -112,7 +112,7 @@ fn misra1a_start2_matches_nist_certified_values() {
 
 #[test]
 fn misra1a_interval_matches_worked_example() {
-    // CHECKS.md §8: b1 95 % interval 238.94212918 ± 2.17881282967 × 2.7070075241 = [233.0440665, 244.8401919].
+    // docs/checks.md §8: b1 95 % interval 238.94212918 ± 2.17881282967 × 2.7070075241 = [233.0440665, 244.8401919].
     let p = misra1a();
     let sol =
         lm::minimize(&p, DVector::from_column_slice(&[250.0, 5e-4]), &LmSettings::unbounded(2))
@@ -125,7 +125,7 @@ fn misra1a_interval_matches_worked_example() {
     assert!((iv.params[0].hi - 244.8401919).abs() < 1e-5, "hi {}", iv.params[0].hi);
 }
 
-// ---- MGH09 (NIST StRD, higher difficulty; CHECKS.md §10) ----
+// ---- MGH09 (NIST StRD, higher difficulty; docs/checks.md §10) ----
 const MGH_X: [f64; 11] = [4.0, 2.0, 1.0, 0.5, 0.25, 0.167, 0.125, 0.1, 0.0833, 0.0714, 0.0625];
 const MGH_Y: [f64; 11] =
     [0.1957, 0.1947, 0.1735, 0.16, 0.0844, 0.0627, 0.0456, 0.0342, 0.0323, 0.0235, 0.0246];
@@ -167,7 +167,7 @@ fn mgh09_start2_matches_nist_certified_values() {
     fit_and_check(&mgh09(), &[0.25, 0.39, 0.415, 0.39], &MGH09, "start 2");
 }
 
-// ---- Thurber (NIST StRD, higher difficulty; CHECKS.md §10) ----
+// ---- Thurber (NIST StRD, higher difficulty; docs/checks.md §10) ----
 const THURBER_X: [f64; 37] = [
     -3.067, -2.981, -2.921, -2.912, -2.840, -2.797, -2.702, -2.699, -2.633, -2.481, -2.363, -2.322,
     -1.501, -1.460, -1.274, -1.212, -1.100, -1.046, -0.915, -0.714, -0.566, -0.545, -0.400, -0.309,

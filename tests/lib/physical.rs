@@ -1,6 +1,6 @@
 //! Library tests: physical.
 //!
-//! Gravity against /work/shared/CHECKS.md §6 (WGS 84, NIMA TR8350.2 [memory]), the compound
+//! Gravity against docs/checks.md §6 (WGS 84, NIMA TR8350.2 [memory]), the compound
 //! pendulum relations of §1 and §3 ([common practice]; Thomson & Dahleh 5th ed. ch. 2 [memory]),
 //! and GUM propagation against the worked example of §7 (JCGM 100:2008 eqs. 10 and 13 [memory]).
 
@@ -27,7 +27,7 @@ fn standard_gravity_is_the_cgpm_value() {
 
 #[test]
 fn wgs84_normal_gravity_matches_table() {
-    // CHECKS.md §6 table, WGS 84 Somigliana (TR8350.2 [memory]); 90° printed value is truncated: tolerance 1e-10.
+    // docs/checks.md §6 table, WGS 84 Somigliana (TR8350.2 [memory]); 90° printed value is truncated: tolerance 1e-10.
     for (lat, gamma) in
         [(0.0, 9.7803253359), (45.0, 9.8061977694), (60.0, 9.8191769531), (90.0, 9.8321849379)]
     {
@@ -39,7 +39,7 @@ fn wgs84_normal_gravity_matches_table() {
 
 #[test]
 fn second_order_height_formula_matches_table() {
-    // CHECKS.md §6: φ = 45°, h = 100 m → 9.8058892217; h = 1000 m → 9.8031129436.
+    // docs/checks.md §6: φ = 45°, h = 100 m → 9.8058892217; h = 1000 m → 9.8031129436.
     assert!((physical::normal_gravity(45.0, 100.0).unwrap() - 9.8058892217).abs() < 1e-10);
     assert!((physical::normal_gravity(45.0, 1000.0).unwrap() - 9.8031129436).abs() < 1e-10);
     // Vertical gradient at h = 0: 3.0877e-6 s⁻² at 0°, 3.0834e-6 at 90° (same table).
@@ -73,7 +73,7 @@ fn inputs(m: Measured, d: Measured, g: Gravity, r: f64) -> ArticleInputs {
     ArticleInputs { mass: m, pivot_to_cg: d, gravity: g, r_mass_pivot: r }
 }
 
-/// CHECKS.md §7 worked example: J = m g d/ωn², m = 2 (u 0.001), d = 0.5 (u 0.0005),
+/// docs/checks.md §7 worked example: J = m g d/ωn², m = 2 (u 0.001), d = 0.5 (u 0.0005),
 /// g = 9.81 (u 0.001), ωn² = 14.71 (u 0.005) → ωn = √14.71, u(ωn) = u(ωn²)/(2ωn).
 fn gum_example(r: f64) -> physical::PhysicalCoefficients {
     let w = 14.71f64.sqrt();
@@ -94,7 +94,7 @@ fn gum_example(r: f64) -> physical::PhysicalCoefficients {
 
 #[test]
 fn gum_worked_example_uncorrelated() {
-    // CHECKS.md §7 (JCGM 100:2008 eq. 10): J = 0.666893269884, u_c = 0.000782265067, U = 0.00156453013.
+    // docs/checks.md §7 (JCGM 100:2008 eq. 10): J = 0.666893269884, u_c = 0.000782265067, U = 0.00156453013.
     let pc = gum_example(0.0);
     assert!(close(pc.inertia_pivot.value, 0.666893269884, 1e-11));
     assert!(close(pc.inertia_pivot.u_c, 0.000782265067, 1e-9), "u_c = {}", pc.inertia_pivot.u_c);
@@ -107,15 +107,15 @@ fn gum_worked_example_uncorrelated() {
 
 #[test]
 fn gum_worked_example_with_correlated_mass_and_distance() {
-    // CHECKS.md §7 (JCGM 100:2008 eq. 13): r(m, d) = 0.5 → u_c = 0.000913406783.
+    // docs/checks.md §7 (JCGM 100:2008 eq. 13): r(m, d) = 0.5 → u_c = 0.000913406783.
     let pc = gum_example(0.5);
     assert!(close(pc.inertia_pivot.u_c, 0.000913406783, 1e-9), "u_c = {}", pc.inertia_pivot.u_c);
 }
 
 #[test]
 fn rod_example_reproduces_section_1_and_3() {
-    // CHECKS.md §1: uniform rod, m = 2 kg, d = 0.5 m, g = g_n, ωn² = 14.709975 exactly.
-    // CHECKS.md §3: c = 0.05 N·m·s/rad on J = 2/3 → b1 = c/J = 0.075 1/s.
+    // docs/checks.md §1: uniform rod, m = 2 kg, d = 0.5 m, g = g_n, ωn² = 14.709975 exactly.
+    // docs/checks.md §3: c = 0.05 N·m·s/rad on J = 2/3 → b1 = c/J = 0.075 1/s.
     let w = 14.709975f64.sqrt();
     let fit = FittedDynamics {
         omega_n: w,

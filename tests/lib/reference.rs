@@ -3,7 +3,7 @@
 //! Source of every expected value here: the committed SciPy DOP853 script
 //! tests/reference/pendulum_ref.py (rtol 1e-12, atol 1e-14, true stick–slip by terminal events),
 //! run by tests/reference/make_reference.py into tests/data/reference/, and itself checked
-//! against CHECKS.md sections 2, 4 and 11 by tests/reference/check_reference.py
+//! against docs/checks.md §2, §4 and §11 by tests/reference/check_reference.py
 //! (output: tests/data/reference/check_reference.txt). The reference was computed independently
 //! of swingfit, so agreement to 1e-8 rad is a real check of the integrators and their events.
 

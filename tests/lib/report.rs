@@ -224,7 +224,7 @@ fn half_cycle_peaks_follow_the_viscous_envelope() {
     // About 2 half cycles per period over 20 s at ωd ≈ 6.5 rad/s: 41 boundaries, first dropped.
     assert!((38..=42).contains(&model.len()), "{} peaks", model.len());
     // Successive half-cycle peaks of a viscous decay shrink by e^{−σπ/ωd} (linear oscillator,
-    // logarithmic decrement, CHECKS.md §3 [common practice]).
+    // logarithmic decrement, docs/checks.md §3 [common practice]).
     let ratio = (-0.5 * B1 * PI / omega_d()).exp();
     for w in model.windows(2) {
         assert_relative_eq!(w[1].1 / w[0].1, ratio, max_relative = 2e-4);

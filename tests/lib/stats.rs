@@ -1,7 +1,7 @@
 //! Library tests: stats.
 //!
 //! Quantiles, information criteria, the nested F-test and Ljung–Box against the check values of
-//! /work/shared/CHECKS.md §8 (computed there with mpmath, scipy.stats agreeing to ≥ 12 digits).
+//! docs/checks.md §8 (computed there with mpmath, scipy.stats agreeing to ≥ 12 digits).
 
 use swingfit::stats::{self, StatsError};
 
@@ -11,7 +11,7 @@ fn close(a: f64, b: f64, rel: f64) -> bool {
 
 #[test]
 fn student_t_quantiles_match_checks() {
-    // CHECKS.md §8, t_{0.975,ν} (mpmath; scipy agrees).
+    // docs/checks.md §8, t_{0.975,ν} (mpmath; scipy agrees).
     let table = [
         (1.0, 12.7062047362),
         (2.0, 4.30265272975),
@@ -43,13 +43,13 @@ fn student_t_quantiles_match_checks() {
         assert!(close(got, t, 1e-11), "t(0.975, {nu}) = {got}, expected {t}");
         assert!(close(stats::t_quantile(0.025, nu).unwrap(), -t, 1e-11));
     }
-    // Large ν approaches z_0.975 = 1.95996398454 (CHECKS.md §7).
+    // Large ν approaches z_0.975 = 1.95996398454 (docs/checks.md §7).
     assert!(close(stats::t_quantile(0.975, 1e9).unwrap(), 1.95996398454, 1e-8));
 }
 
 #[test]
 fn chi2_quantiles_and_tails_match_checks() {
-    // CHECKS.md §8, χ²_{0.95}(k).
+    // docs/checks.md §8, χ²_{0.95}(k).
     for (k, q) in [
         (1.0, 3.84145882069),
         (3.0, 7.81472790325),
@@ -66,7 +66,7 @@ fn chi2_quantiles_and_tails_match_checks() {
 
 #[test]
 fn f_quantiles_match_checks() {
-    // CHECKS.md §8, F_{0.95}(d1, d2).
+    // docs/checks.md §8, F_{0.95}(d1, d2).
     for (d1, d2, q) in [
         (1.0, 10.0, 4.96460274373),
         (1.0, 100.0, 3.93614298631),
@@ -96,7 +96,7 @@ fn f_tail_with_a_long_record_matches_scipy() {
 
 #[test]
 fn information_criteria_match_worked_example() {
-    // CHECKS.md §8 worked example: n = 200; A: p = 3, RSS 0.0450; B: p = 4, RSS 0.0410.
+    // docs/checks.md §8 worked example: n = 200; A: p = 3, RSS 0.0450; B: p = 4, RSS 0.0410.
     // AIC: Akaike 1974; BIC: Schwarz 1978; AICc: Hurvich & Tsai 1989 [memory].
     let n = 200;
     assert!(close(stats::aic(n, 0.0450, 3).unwrap(), -1673.88203115, 1e-11));
@@ -109,7 +109,7 @@ fn information_criteria_match_worked_example() {
 
 #[test]
 fn nested_f_test_matches_worked_example() {
-    // CHECKS.md §8: F(1,196) = 19.1219512195, upper-tail p = 1.989207893e-5 (scipy f.sf agrees).
+    // docs/checks.md §8: F(1,196) = 19.1219512195, upper-tail p = 1.989207893e-5 (scipy f.sf agrees).
     let t = stats::nested_f_test(200, 0.0450, 3, 0.0410, 4).unwrap();
     assert_eq!((t.df1, t.df2), (1, 196));
     assert!(close(t.f, 19.1219512195, 1e-10), "F = {}", t.f);
@@ -118,7 +118,7 @@ fn nested_f_test_matches_worked_example() {
 
 #[test]
 fn ljung_box_matches_worked_example() {
-    // CHECKS.md §8 (Ljung & Box 1978 statistic on invented residuals, n = 12, h = 3):
+    // docs/checks.md §8 (Ljung & Box 1978 statistic on invented residuals, n = 12, h = 3):
     // r1..r3 = -0.489213879932, 0.260632580992, -0.341893136803; Q = 6.97840191713; p = 0.07258937219.
     let e = [0.5, -0.3, 0.8, -0.1, 0.2, -0.6, 0.4, 0.1, -0.2, -0.4, 0.3, 0.0];
     let r = stats::autocorrelations(&e, 3);

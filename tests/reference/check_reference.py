@@ -1,6 +1,6 @@
 #!/usr/bin/env python3
 """Check the reference integrator against the published / independently computed values of
-/work/shared/CHECKS.md before trusting it. Run: python3 tests/reference/check_reference.py
+docs/checks.md before trusting it. Run: python3 tests/reference/check_reference.py
 Prints each check and exits non-zero if one fails. Output committed as check_reference.txt."""
 
 import math
@@ -27,7 +27,7 @@ def params(**kw):
     return p
 
 
-# CHECKS.md section 11 (mpmath odefun, 30 digits [derived here]): J = 2/3, mgd = 9.80665,
+# docs/checks.md §11 (mpmath odefun, 30 digits [derived here]): J = 2/3, mgd = 9.80665,
 # c = 0.01, tau_c = 0.005, c_q = 0.002, theta0 = 1 rad, per unit inertia divide by J.
 J = 2.0 / 3.0
 p11 = params(omega_n=math.sqrt(9.80665 / J), viscous=0.01 / J, coulomb=0.005 / J,
@@ -47,21 +47,21 @@ for t, a, w, aw, ww in zip([0.5, 1, 2, 4], th[1:], om[1:],
     check(f"s11 angle at t={t}", a, aw, 2e-12)
     check(f"s11 velocity at t={t}", w, ww, 2e-11)
 
-# CHECKS.md section 4, nonlinear Coulomb example [derived here]: mgd = 9.80665, J = 2/3,
+# docs/checks.md §4, nonlinear Coulomb example [derived here]: mgd = 9.80665, J = 2/3,
 # tau_c = 0.05, a0 = 1 rad -> a1 = 0.987907772656455988 at t = 0.872762050456633 s.
 p4 = params(omega_n=math.sqrt(9.80665 / J), coulomb=0.05 / J, initial_angle=1.0)
 e = ref.Reference(p4, 0.0, 1.0).events[0]
 check("s4 first turning point angle", e["angle"], -0.987907772656455988, 1e-12)
 check("s4 first turning point time", e["t"], 0.872762050456633, 1e-12)
 
-# CHECKS.md section 4, linear worked example (Thomson & Dahleh 5th ed. s2.8 [memory]) is for a
+# docs/checks.md §4, linear worked example (Thomson & Dahleh 5th ed. s2.8 [memory]) is for a
 # linear spring; the pendulum's sin makes it inapplicable, so check the dead band instead:
 # released inside |omega_n^2 sin| <= b0 it never moves.
 p_db = params(omega_n=2.0, coulomb=0.5, initial_angle=0.1)
 th, om, ev = ref.simulate(p_db, [0.0, 1.0, 2.0])
 check("dead band: stays at release angle", th[2], 0.1, 0.0)
 
-# CHECKS.md section 2: T/T0 at 170 deg = 2.439362719673884 (A&S 17.3.1 [memory]).
+# docs/checks.md §2: T/T0 at 170 deg = 2.439362719673884 (A&S 17.3.1 [memory]).
 # Undamped: a full period is two half swings between turning points.
 p2 = params(omega_n=1.0, initial_angle=170.0 * math.pi / 180.0)
 r = ref.Reference(p2, 0.0, 40.0)

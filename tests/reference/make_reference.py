@@ -70,7 +70,7 @@ CASES = {
          "equilibrium": 0.05, "initial_angle": 0.05 + 120.0 * DEG},
         uniform(30.0, 100.0),
     ),
-    # Undamped, released at 170 deg: period 2.439 T0 (CHECKS.md section 2).
+    # Undamped, released at 170 deg: period 2.439 T0 (docs/checks.md §2).
     "undamped_170": (
         {"omega_n": 3.0, "initial_angle": 170.0 * DEG},
         uniform(15.0, 200.0),
