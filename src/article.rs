@@ -30,14 +30,8 @@ pub struct ArticleError {
     pub what: String,
 }
 
-/// Which damping to fit.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum DampingChoice {
-    /// Compare every candidate set and fit the one the comparison picks.
-    Auto,
-    /// Fit exactly these terms.
-    Terms(DampingSet),
-}
+/// Which damping to fit (defined with the workflow that uses it).
+pub use crate::fit::workflow::DampingChoice;
 
 /// One run of the article: a log and how to read it.
 #[derive(Clone, Debug, PartialEq)]
@@ -266,7 +260,7 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
         cx.non_negative(&raw.pivot_to_cg.std, "pivot_to_cg.std", "standard uncertainty in m")?;
     let (gravity, gravity_words) = gravity(&cx, raw.gravity.as_ref())?;
     let damping = match &raw.damping {
-        None => DampingChoice::Terms(crate::fit::default_damping()),
+        None => DampingChoice::Auto,
         Some(sp) => match sp.get_ref() {
             RawDamping::Word(w) if w.trim().eq_ignore_ascii_case("auto") => DampingChoice::Auto,
             RawDamping::Word(w) => DampingChoice::Terms(

@@ -15,6 +15,7 @@
 //! ## Wire format `swingfit.batch.v1` (one JSON object per line of `summary.jsonl`)
 //! ```text
 //! { "schema": "swingfit.batch.v1", "file": "…", "status": "ok" | "error",
+//!   "adequacy": "explained" | "approximate" | "not_explained" | null, "damping": [..] | null,
 //!   "error_kind": null | "input" | "rejected", "error": null | "…",
 //!   "samples": n, "dropped_rows": n, "iterations": n, "rms_residual": r, "noise_floor": s,
 //!   "normalized": { "omega_n": P, "viscous": P, … },    fitted terms only
@@ -35,10 +36,11 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::article::{self, DampingChoice};
+use crate::article;
 use crate::data::{self, LoadOptions};
-use crate::fit::compare::{self, CompareOptions};
-use crate::fit::{self, Estimate, FitOptions};
+use crate::fit::adequacy::Adequacy;
+use crate::fit::workflow::{self, DampingChoice};
+use crate::fit::{Estimate, FitOptions};
 use crate::model::{DampingSet, Term};
 use crate::physical::{self, ArticleInputs, PhysicalCoefficients, Quantity};
 use crate::report::json::P;
@@ -151,8 +153,10 @@ fn has_extension(p: &Path, ext: &str) -> bool {
 pub struct BatchSettings {
     /// How to read the logs.
     pub load: LoadOptions,
-    /// How to fit them.
+    /// How to fit them (bootstrap, seed; the damping comes from `damping`).
     pub fit: FitOptions,
+    /// Which damping to fit (default: chosen per log by the comparison).
+    pub damping: DampingChoice,
     /// Mass properties and gravity, for physical coefficients (the same article for every log).
     pub article: Option<ArticleInputs>,
     /// Worker threads (0: one per core).
@@ -190,6 +194,10 @@ pub struct RowError {
 /// The numbers of one successful fit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct RowFit {
+    /// The fitted damping set.
+    pub damping: DampingSet,
+    /// The fit's adequacy verdict.
+    pub adequacy: Adequacy,
     /// Samples fitted.
     pub samples: usize,
     /// Rows dropped by `--drop-bad-rows`.
@@ -283,7 +291,9 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
         kind: ErrorKind::Rejected,
         message: format!("{}: {m}", path.display()),
     };
-    let outcome = fit::fit(&found.runs, &settings.fit).map_err(|e| rejected(e.to_string()))?;
+    let outcome = workflow::choose_and_fit(&found.runs, settings.damping, &settings.fit)
+        .map_err(|e| rejected(e.to_string()))?
+        .outcome;
     let physical = match &settings.article {
         Some(a) => Some(
             physical::physical_coefficients(a, &outcome.dynamics())
@@ -293,6 +303,8 @@ fn fit_log(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowError> {
     };
     let run = outcome.runs.first();
     Ok(RowFit {
+        damping: outcome.damping,
+        adequacy: outcome.adequacy.verdict,
         samples: outcome.n_obs,
         dropped_rows,
         iterations: outcome.iterations_total,
@@ -329,22 +341,14 @@ pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowE
         })
         .collect();
     let dropped_rows = logs.iter().map(|l| l.dropped_lines().len()).sum();
-    let damping = match spec.damping {
-        DampingChoice::Terms(set) => set,
-        DampingChoice::Auto => {
-            let options = CompareOptions {
-                candidates: DampingSet::all_nonempty(),
-                fit: settings.fit.clone(),
-            };
-            let c = compare::compare(&logs, &options);
-            c.best.ok_or_else(|| rejected(format!("damping \"auto\": {}", c.verdict)))?
-        }
-    };
-    let options = FitOptions { damping, ..settings.fit.clone() };
-    let outcome = fit::fit(&logs, &options).map_err(|e| rejected(e.to_string()))?;
+    let outcome = workflow::choose_and_fit(&logs, spec.damping, &settings.fit)
+        .map_err(|e| rejected(e.to_string()))?
+        .outcome;
     let physical = physical::physical_coefficients(&spec.physical, &outcome.dynamics())
         .map_err(|e| rejected(e.to_string()))?;
     Ok(RowFit {
+        damping: outcome.damping,
+        adequacy: outcome.adequacy.verdict,
         samples: outcome.n_obs,
         dropped_rows,
         iterations: outcome.iterations_total,
@@ -415,11 +419,20 @@ fn coefficient_values(
 /// physical columns (pass whether an article was given).
 pub fn summary_csv(rows: &[Row], damping: DampingSet, physical: bool) -> String {
     let names = coefficient_names(damping, physical);
-    let mut header: Vec<String> =
-        ["file", "status", "error_kind", "error", "samples", "dropped_rows", "iterations"]
-            .iter()
-            .map(|s| s.to_string())
-            .collect();
+    let mut header: Vec<String> = [
+        "file",
+        "status",
+        "adequacy",
+        "damping",
+        "error_kind",
+        "error",
+        "samples",
+        "dropped_rows",
+        "iterations",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
     header.extend(["rms_residual".to_string(), "noise_floor".to_string()]);
     for n in &names {
         header.extend([
@@ -436,7 +449,13 @@ pub fn summary_csv(rows: &[Row], damping: DampingSet, physical: bool) -> String 
         let mut rec = vec![row.file.clone()];
         match &row.result {
             Ok(f) => {
-                rec.extend(["ok".into(), String::new(), String::new()]);
+                rec.extend([
+                    "ok".into(),
+                    f.adequacy.name().into(),
+                    f.damping.names().join("+"),
+                    String::new(),
+                    String::new(),
+                ]);
                 rec.extend([
                     f.samples.to_string(),
                     f.dropped_rows.to_string(),
@@ -451,7 +470,13 @@ pub fn summary_csv(rows: &[Row], damping: DampingSet, physical: bool) -> String 
                 }
             }
             Err(e) => {
-                rec.extend(["error".into(), e.kind.name().into(), e.message.clone()]);
+                rec.extend([
+                    "error".into(),
+                    String::new(),
+                    String::new(),
+                    e.kind.name().into(),
+                    e.message.clone(),
+                ]);
                 rec.extend(std::iter::repeat_n(String::new(), 5 + 4 * names.len()));
             }
         }
@@ -473,6 +498,8 @@ struct JsonRow<'a> {
     schema: &'static str,
     file: &'a str,
     status: &'static str,
+    adequacy: Option<&'static str>,
+    damping: Option<Vec<&'static str>>,
     error_kind: Option<&'static str>,
     error: Option<&'a str>,
     samples: Option<usize>,
@@ -514,6 +541,8 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
                     schema: BATCH_SCHEMA,
                     file: &row.file,
                     status: "ok",
+                    adequacy: Some(f.adequacy.name()),
+                    damping: Some(f.damping.names()),
                     error_kind: None,
                     error: None,
                     samples: Some(f.samples),
@@ -530,6 +559,8 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
                 schema: BATCH_SCHEMA,
                 file: &row.file,
                 status: "error",
+                adequacy: None,
+                damping: None,
                 error_kind: Some(e.kind.name()),
                 error: Some(&e.message),
                 samples: None,
@@ -551,13 +582,18 @@ pub fn summary_jsonl(rows: &[Row]) -> String {
     out
 }
 
-/// The exit code a batch ends with: 0 when every row is ok, 2 when any input was bad,
-/// else 1 (some fit rejected).
+/// The exit code a batch ends with: 2 when any input was bad, else 1 when some fit was
+/// rejected, else 3 when some fit does not explain its log, else 0.
 pub fn exit_code(rows: &[Row]) -> u8 {
     if rows.iter().any(|r| r.error_kind() == Some(ErrorKind::Input)) {
         2
     } else if rows.iter().any(|r| r.error_kind() == Some(ErrorKind::Rejected)) {
         1
+    } else if rows
+        .iter()
+        .any(|r| r.result.as_ref().is_ok_and(|f| f.adequacy == Adequacy::NotExplained))
+    {
+        3
     } else {
         0
     }
@@ -575,6 +611,8 @@ mod tests {
         Row {
             file: file.into(),
             result: Ok(RowFit {
+                damping: DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]),
+                adequacy: Adequacy::Explained,
                 samples: 2001,
                 dropped_rows: 0,
                 iterations: 12,
@@ -609,18 +647,18 @@ mod tests {
         assert_eq!(lines.len(), 3);
         assert_eq!(
             lines[0],
-            "file,status,error_kind,error,samples,dropped_rows,iterations,rms_residual,noise_floor,\
+            "file,status,adequacy,damping,error_kind,error,samples,dropped_rows,iterations,rms_residual,noise_floor,\
              omega_n,omega_n_std,omega_n_ci95_lo,omega_n_ci95_hi,viscous,viscous_std,viscous_ci95_lo,viscous_ci95_hi,\
              coulomb,coulomb_std,coulomb_ci95_lo,coulomb_ci95_hi"
         );
         assert_eq!(
             lines[1],
-            "a.csv,ok,,,2001,0,12,0.000085,0.000087,4.75,0.125,4.5,5,0.0625,0.0078125,0.046875,0.078125,0.03,0.002,0.026,0.034"
+            "a.csv,ok,explained,viscous+coulomb,,,2001,0,12,0.000085,0.000087,4.75,0.125,4.5,5,0.0625,0.0078125,0.046875,0.078125,0.03,0.002,0.026,0.034"
         );
         // The message has a comma and quotes: csv quoting keeps it one field.
         assert_eq!(
             lines[2],
-            "b.csv,error,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
+            "b.csv,error,,,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
         );
         let header_fields = lines[0].split(',').count();
         let mut r = csv::Reader::from_reader(text.as_bytes());

@@ -12,11 +12,15 @@
 //! A fit that does not converge, ends with a damping term pinned at zero, or has singular normal
 //! equations is returned as a [`FitError`] with its diagnosis; no coefficients escape from it.
 
+pub mod adequacy;
+pub mod bootstrap;
 pub mod compare;
 pub mod lm;
 pub mod problem;
+pub mod robust;
 pub mod start;
 pub mod uncertainty;
+pub mod workflow;
 
 use nalgebra::{DMatrix, DVector};
 
@@ -135,8 +139,14 @@ pub struct FitOutcome {
     pub interval_method: uncertainty::IntervalMethod,
     /// Coverage factor of the 95 % intervals (Student-t quantile t_{0.975, dof}).
     pub t95: f64,
-    /// Warnings in words (unidentified terms, residuals above the noise floor).
+    /// Degrees of freedom of that quantile.
+    pub interval_dof: f64,
+    /// Warnings in words: the notes, then unidentified terms.
     pub flags: Vec<String>,
+    /// Notes about the data used (samples left out, bootstrap refits that failed).
+    pub notes: Vec<String>,
+    /// Whether the model explains the log, with the figures behind the verdict.
+    pub adequacy: adequacy::AdequacyReport,
 }
 
 impl FitOutcome {
@@ -196,11 +206,21 @@ pub enum FitError {
     },
     /// A damping coefficient ended on its bound of zero.
     #[error(
-        "fit rejected: the {term} coefficient is pinned at zero, so the data give no evidence of {term} damping; fit without it (see `swingfit compare`)"
+        "fit rejected: the {term} coefficient is pinned at zero: these data show no {term} damping{}; fit without {term}, or give no --damping and let the comparison choose",
+        limit.map(|l| format!(", and would have shown a coefficient above {l:.1e} {}", term.normalized_unit())).unwrap_or_else(|| ", but they are too weak to bound it (the term may still be present)".into())
     )]
     AtBound {
         /// The term at its bound.
         term: Term,
+        /// Detection limit: 2 standard errors of the coefficient at the bound, when the normal
+        /// equations there give one. A small limit says the term is absent; none, lack of power.
+        limit: Option<f64>,
+    },
+    /// The automatic damping choice found no candidate set that could be fitted.
+    #[error("no damping set could be fitted: {reasons}")]
+    NoCandidate {
+        /// Each candidate's reason.
+        reasons: String,
     },
     /// The normal equations are singular.
     #[error(
@@ -369,7 +389,13 @@ fn finish(
     for &i in &sol.at_bound {
         if i >= 1 && i < layout.n_physics() {
             let term = options.damping.iter().nth(i - 1).unwrap_or(Term::Viscous);
-            return Err(FitError::AtBound { term });
+            let n =
+                problem.runs.iter().flat_map(|r| r.weights.iter()).sum::<f64>().round() as usize;
+            let limit = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n)
+                .ok()
+                .map(|c| 2.0 * c.std[i])
+                .filter(|l| l.is_finite() && *l > 0.0);
+            return Err(FitError::AtBound { term, limit });
         }
     }
     let n_obs = problem.runs.iter().map(|r| r.times.len()).sum::<usize>();
@@ -396,68 +422,37 @@ fn finish(
         detail: e.to_string(),
     };
     let cov = uncertainty::covariance(&sol.at_min.jtj, sol.at_min.rss, n_eff).map_err(singular)?;
-    let all_residuals: Vec<f64> = residuals.concat();
-    let plain = uncertainty::whiteness_adjusted_intervals(&x, &cov, &all_residuals, 0.05)
-        .map_err(singular)?;
-    let intervals = match options.bootstrap {
-        Some(b) if b >= 2 => bootstrap(
-            logs,
-            surveys,
-            options,
-            layout,
-            &x,
-            &residuals,
-            &trajectories,
-            b,
-            &plain,
-            cov.dof,
-        )?,
-        _ => plain,
-    };
-    // Covariance consistent with the reported standard uncertainties (widening rescales it).
-    let mut covariance = cov.cov.clone();
-    for i in 0..p {
-        for j in 0..p {
-            let si = intervals.params[i].std / cov.std[i].max(1e-300);
-            let sj = intervals.params[j].std / cov.std[j].max(1e-300);
-            covariance[(i, j)] *= si * sj;
-        }
-    }
-    let t95 = intervals.coverage_factor;
-    let est = |i: usize, unit: &'static str| {
-        let iv = &intervals.params[i];
-        Estimate { value: iv.value, std: iv.std, ci95: (iv.lo, iv.hi), unit }
-    };
-    let names = layout.names();
-    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
-    // Flags about the shared physics only: the release of each run is always well determined
-    // or harmless (an initial velocity of zero has an interval wider than its value by nature).
-    let mut flags: Vec<String> = uncertainty::identifiability_flags(&name_refs, &cov, &intervals)
-        .into_iter()
-        .filter(|f| f.param < layout.n_physics() && !matches!(f.kind, uncertainty::FlagKind::Correlated { other, .. } if other >= layout.n_physics()))
-        .map(|f| f.message)
-        .collect();
-    let ljung_box: Vec<f64> = residuals
+    let ljung: Vec<Option<stats::LjungBox>> = residuals
         .iter()
-        .map(|r| {
-            stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0)
-                .map(|l| l.p_value)
-                .unwrap_or(f64::NAN)
-        })
+        .map(|r| stats::ljung_box(r, stats::ljung_box_lags(r.len()), 0).ok())
         .collect();
-    let interval_method = intervals.method.clone();
+    let white = ljung.iter().all(|l| l.as_ref().is_none_or(|l| !l.rejects_white(0.05)));
+    let plain = uncertainty::plain_intervals(&x, &cov).map_err(singular)?;
+    let intervals = if white {
+        plain.clone()
+    } else {
+        // Correlated residuals: the HAC sandwich, never narrower than the plain interval.
+        let bread = cov.cov.clone() / cov.s2.max(1e-300);
+        let hac = robust::hac_covariance(problem, &x, &residuals, &bread, n_eff)
+            .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e })?;
+        let std = DVector::from_fn(p, |i, _| hac.cov[(i, i)].max(0.0).sqrt().max(cov.std[i]));
+        let rho1 = ljung.iter().flatten().map(|l| l.rho1).fold(f64::NEG_INFINITY, f64::max);
+        let method = uncertainty::IntervalMethod::Hac {
+            rho1,
+            bandwidth: hac.bandwidth.iter().copied().max().unwrap_or(1),
+            dof: hac.dof,
+        };
+        uncertainty::intervals_from_std(&x, &std, hac.dof, method).map_err(singular)?
+    };
+    let ljung_box: Vec<f64> =
+        ljung.iter().map(|l| l.as_ref().map_or(f64::NAN, |l| l.p_value)).collect();
     let physics = layout.physics(&x);
-    let terms: Vec<(Term, Estimate)> = options
-        .damping
-        .iter()
-        .enumerate()
-        .map(|(i, t)| (t, est(1 + i, t.normalized_unit())))
-        .collect();
+    let mut notes = Vec::new();
     for (k, run) in problem.runs.iter().enumerate() {
         let log = &logs[k];
         let used = run.times.len();
         if used < log.len() {
-            flags.push(format!(
+            notes.push(format!(
                 "{}: the last {:.1} s ({} samples), where the swing is below {} encoder steps of {:.3e} rad, is not fitted: there the quantisation error is locked to the motion and is not noise",
                 log.source(),
                 log.times()[log.len() - 1] - run.times[used - 1],
@@ -467,29 +462,19 @@ fn finish(
             ));
         }
     }
+    let blank = Estimate { value: 0.0, std: 0.0, ci95: (0.0, 0.0), unit: "" };
     let runs: Vec<RunFit> = (0..logs.len())
         .map(|k| {
-            let o = layout.run_offset(k);
             let r = &residuals[k];
             let rms = (r.iter().map(|v| v * v).sum::<f64>() / r.len() as f64).sqrt();
-            let noise = surveys[k].noise_rad;
-            if rms > 3.0 * noise.max(1e-12) {
-                flags.push(format!(
-                    "{}: RMS residual {:.3e} rad is {:.1}x the noise floor {:.3e} rad: the model leaves structure unexplained (see `swingfit compare`)",
-                    logs[k].source(),
-                    rms,
-                    rms / noise.max(1e-300),
-                    noise
-                ));
-            }
             RunFit {
                 source: logs[k].source().to_string(),
                 samples: r.len(),
-                equilibrium: est(o, "rad"),
-                initial_angle: est(o + 1, "rad"),
-                initial_velocity: est(o + 2, "rad/s"),
+                equilibrium: blank.clone(),
+                initial_angle: blank.clone(),
+                initial_velocity: blank.clone(),
                 rms_residual: rms,
-                noise_floor: noise,
+                noise_floor: surveys[k].noise_rad,
                 ljung_box_p: ljung_box[k],
                 residuals: r.clone(),
                 model_angle: trajectories[k].angle.clone(),
@@ -497,18 +482,31 @@ fn finish(
             }
         })
         .collect();
-    let correlation = cov.corr.clone();
-    Ok(FitOutcome {
+    let inputs: Vec<adequacy::RunInput<'_>> = runs
+        .iter()
+        .enumerate()
+        .map(|(k, r)| adequacy::RunInput {
+            times: problem.runs[k].times,
+            residuals: &r.residuals,
+            model_angle: &r.model_angle,
+            model_velocity: &r.model_velocity,
+            equilibrium: x[layout.run_offset(k)],
+            whiteness_p: r.ljung_box_p,
+            survey: &surveys[k],
+        })
+        .collect();
+    let adequacy = adequacy::assess(x[0], &inputs);
+    let mut out = FitOutcome {
         damping: options.damping,
         physics,
-        omega_n: est(0, "rad/s"),
-        terms,
+        omega_n: blank.clone(),
+        terms: options.damping.iter().map(|t| (t, blank.clone())).collect(),
         runs,
-        names,
+        names: layout.names(),
         x,
         start,
-        covariance,
-        correlation,
+        covariance: cov.cov.clone(),
+        correlation: cov.corr.clone(),
         condition: cov.condition,
         iterations: sol.iterations,
         iterations_total,
@@ -517,73 +515,64 @@ fn finish(
         n_independent: n_eff,
         dof: n_eff - p,
         convergence: sol.convergence,
-        interval_method,
-        t95,
-        flags,
-    })
+        interval_method: intervals.method.clone(),
+        t95: intervals.coverage_factor,
+        interval_dof: intervals.dof,
+        flags: Vec::new(),
+        notes,
+        adequacy,
+    };
+    set_intervals(&mut out, &cov, &intervals);
+    match options.bootstrap {
+        Some(b) if b >= 2 => bootstrap::apply(logs, surveys, out, b, options.seed),
+        _ => Ok(out),
+    }
 }
 
-/// Moving-block bootstrap: refit on model − resampled residual blocks, `b` times, each replicate
-/// with its own seed (so the result does not depend on thread count). The reported standard
-/// uncertainty is the larger of the bootstrap's and the analytic one: resampling can only widen.
-#[allow(clippy::too_many_arguments)]
-fn bootstrap(
-    logs: &[AngleLog],
-    surveys: &[Survey],
-    options: &FitOptions,
-    layout: Layout,
-    x: &DVector<f64>,
-    residuals: &[Vec<f64>],
-    trajectories: &[crate::integrate::Trajectory],
-    b: usize,
-    analytic: &uncertainty::IntervalSet,
-    dof: usize,
-) -> Result<uncertainty::IntervalSet, FitError> {
-    use rayon::prelude::*;
-    let physics = layout.physics(x);
-    let releases: Vec<Release> = (0..logs.len()).map(|k| layout.release(x, k)).collect();
-    let block = residuals.iter().map(|r| uncertainty::block_length_rule(r)).max().unwrap_or(1);
-    let replicates: Vec<Option<DVector<f64>>> = (0..b)
-        .into_par_iter()
-        .map(|i| {
-            let seed = options.seed.wrapping_mul(0x9E37_79B9_7F4A_7C15).wrapping_add(i as u64);
-            let synthetic: Option<Vec<AngleLog>> = logs
-                .iter()
-                .enumerate()
-                .map(|(k, l)| {
-                    let mut boot = uncertainty::BlockBootstrap::new(
-                        &residuals[k],
-                        block,
-                        seed.wrapping_add(7919 * k as u64),
-                    )
-                    .ok()?;
-                    let e = boot.sample();
-                    let y: Vec<f64> =
-                        trajectories[k].angle.iter().zip(e.iter()).map(|(m, r)| m - r).collect();
-                    AngleLog::from_samples(l.source(), l.times().to_vec(), y).ok()
-                })
-                .collect();
-            let synthetic = synthetic?;
-            let opts = FitOptions { bootstrap: None, ..options.clone() };
-            fit_surveyed(&synthetic, surveys, &opts, Some((&physics, &releases))).ok().map(|f| f.x)
-        })
-        .collect();
-    let ok: Vec<DVector<f64>> = replicates.into_iter().flatten().collect();
-    if ok.len() < b.div_ceil(2).max(2) {
-        return Err(FitError::NotConverged {
-            damping: options.damping,
-            reason: format!("only {} of {} bootstrap refits converged", ok.len(), b),
-        });
+/// Put `intervals` into the outcome: every estimate, the covariance (rescaled so that it agrees
+/// with the reported standard uncertainties; the correlations stay those of the fit), the method
+/// and coverage factor, and the flags they imply (after `notes`, which come first).
+pub(crate) fn set_intervals(
+    out: &mut FitOutcome,
+    cov: &uncertainty::Covariance,
+    intervals: &uncertainty::IntervalSet,
+) {
+    let layout = Layout { damping: out.damping, n_runs: out.runs.len() };
+    let p = layout.n_params();
+    let est = |i: usize, unit: &'static str| {
+        let iv = &intervals.params[i];
+        Estimate { value: iv.value, std: iv.std, ci95: (iv.lo, iv.hi), unit }
+    };
+    out.omega_n = est(0, "rad/s");
+    out.terms =
+        out.damping.iter().enumerate().map(|(i, t)| (t, est(1 + i, t.normalized_unit()))).collect();
+    for (k, run) in out.runs.iter_mut().enumerate() {
+        let o = layout.run_offset(k);
+        run.equilibrium = est(o, "rad");
+        run.initial_angle = est(o + 1, "rad");
+        run.initial_velocity = est(o + 2, "rad/s");
     }
-    let mut set = uncertainty::bootstrap_intervals(x, &ok, dof as f64, block, options.seed)
-        .map_err(|e| FitError::NotConverged { damping: options.damping, reason: e.to_string() })?;
-    let t = set.coverage_factor;
-    for (iv, a) in set.params.iter_mut().zip(&analytic.params) {
-        if iv.std < a.std {
-            iv.std = a.std;
-            iv.lo = iv.value - t * a.std;
-            iv.hi = iv.value + t * a.std;
+    let mut covariance = cov.cov.clone();
+    for i in 0..p {
+        for j in 0..p {
+            let si = intervals.params[i].std / cov.std[i].max(1e-300);
+            let sj = intervals.params[j].std / cov.std[j].max(1e-300);
+            covariance[(i, j)] *= si * sj;
         }
     }
-    Ok(set)
+    out.covariance = covariance;
+    out.interval_method = intervals.method.clone();
+    out.t95 = intervals.coverage_factor;
+    out.interval_dof = intervals.dof;
+    let names = layout.names();
+    let name_refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    // Flags about the shared physics only: the release of each run is always well determined
+    // or harmless (an initial velocity of zero has an interval wider than its value by nature).
+    out.flags = out.notes.clone();
+    out.flags.extend(
+        uncertainty::identifiability_flags(&name_refs, cov, intervals)
+            .into_iter()
+            .filter(|f| f.param < layout.n_physics() && !matches!(f.kind, uncertainty::FlagKind::Correlated { other, .. } if other >= layout.n_physics()))
+            .map(|f| f.message),
+    );
 }

@@ -7,3 +7,4 @@ pub mod plan;
 pub mod plot;
 pub mod sheet;
 pub mod table;
+pub mod verdict;

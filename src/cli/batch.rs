@@ -1,7 +1,7 @@
 //! `swingfit batch (DIR | FILE…) --out DIR`: fit many logs, one fit each, in parallel, and write
 //! `DIR/summary.csv` and `DIR/summary.jsonl` (one row per log, sorted by file).
 //!
-//! Exit status: 0 every log fitted; 2 some input was bad (unreadable or invalid log, article file
+//! Exit status: 0 every log fitted; 3 some fit does not explain its log; 2 some input was bad (unreadable or invalid log, article file
 //! not yet supported) or the batch could not start; otherwise 1 (some fit was rejected). The
 //! summaries are written in every case where the batch ran.
 
@@ -51,6 +51,7 @@ pub fn run(args: &BatchArgs) -> CmdResult {
     let settings = BatchSettings {
         load: args.loader.options(),
         fit,
+        damping: args.estimator.choice()?,
         article,
         threads: args.threads.map_or(0, NonZeroUsize::get),
     };
@@ -101,6 +102,13 @@ pub fn run(args: &BatchArgs) -> CmdResult {
     );
     match batch::exit_code(&rows) {
         0 => Ok(()),
+        3 => Err(Failure {
+            code: 3,
+            message: format!(
+                "the model does not explain some logs: their rows (adequacy not_explained in {}) are not a calibration",
+                csv_path.display()
+            ),
+        }),
         code => Err(Failure {
             code,
             message: format!(

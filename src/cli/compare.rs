@@ -19,7 +19,7 @@ pub struct CompareArgs {
     /// Loader options.
     #[command(flatten)]
     pub loader: LoaderArgs,
-    /// Estimator options (--damping is ignored; see --candidates).
+    /// Estimator options (--damping is not used; see --candidates).
     #[command(flatten)]
     pub estimator: EstimatorArgs,
     /// Candidate sets, separated by ';', each a comma list, e.g. "viscous;viscous,coulomb"
@@ -44,7 +44,7 @@ pub fn run(args: &CompareArgs) -> CmdResult {
     let fit = args.estimator.options()?;
     let candidates = match &args.candidates {
         Some(s) => parse_candidates(s)?,
-        None => DampingSet::all_nonempty(),
+        None => compare::default_candidates(),
     };
     if candidates.is_empty() {
         return Err(Failure::input("--candidates: no candidate sets given"));
@@ -60,5 +60,8 @@ pub fn run(args: &CompareArgs) -> CmdResult {
     if c.candidates.iter().all(|e| e.fit.is_err()) {
         return Err(Failure::rejected("no candidate damping set could be fitted"));
     }
-    Ok(())
+    match c.selected() {
+        Some(f) => super::fit::adequacy_exit(f),
+        None => Ok(()),
+    }
 }

@@ -7,7 +7,8 @@ use clap::Args;
 
 use super::{CmdResult, Failure, LoaderArgs};
 use crate::data::AngleLog;
-use crate::fit::{self, FitOptions, FitOutcome};
+use crate::fit::workflow::{self, Chosen, DampingChoice};
+use crate::fit::{FitOptions, FitOutcome};
 use crate::model::DampingSet;
 use crate::physical::{self, ArticleInputs, Gravity, Measured, PhysicalCoefficients};
 use crate::report::{atomic, json, plot, table};
@@ -18,35 +19,36 @@ pub struct ArticleArgs {
     /// Mass of the swinging article [kg].
     #[arg(long, value_name = "KG", allow_hyphen_values = true)]
     pub mass: Option<f64>,
-    /// Standard uncertainty of the mass [kg].
-    #[arg(long, value_name = "KG", default_value_t = 0.0, allow_hyphen_values = true)]
-    pub mass_std: f64,
+    /// Standard uncertainty of the mass [kg] (without it the mass is taken as exact, and said so).
+    #[arg(long, value_name = "KG", allow_hyphen_values = true)]
+    pub mass_std: Option<f64>,
     /// Distance from the pivot axis to the centre of gravity [m].
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub pivot_to_cg: Option<f64>,
-    /// Standard uncertainty of the pivot-to-CG distance [m].
-    #[arg(long, value_name = "M", default_value_t = 0.0, allow_hyphen_values = true)]
-    pub pivot_to_cg_std: f64,
+    /// Standard uncertainty of the pivot-to-CG distance [m] (without it: taken as exact).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub pivot_to_cg_std: Option<f64>,
     /// Local gravity [m/s²] (default: standard gravity 9.80665, or from --latitude).
     #[arg(long, value_name = "M/S2", conflicts_with = "latitude", allow_hyphen_values = true)]
     pub gravity: Option<f64>,
-    /// Standard uncertainty of --gravity [m/s²].
-    #[arg(long, value_name = "M/S2", default_value_t = 0.0, allow_hyphen_values = true)]
-    pub gravity_std: f64,
+    /// Standard uncertainty of --gravity or of the --latitude normal gravity [m/s²].
+    #[arg(long, value_name = "M/S2", allow_hyphen_values = true)]
+    pub gravity_std: Option<f64>,
     /// Geodetic latitude of the rig [deg], for normal gravity (WGS 84).
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
     pub latitude: Option<f64>,
     /// Elevation of the rig above the ellipsoid [m], with --latitude.
-    #[arg(long, value_name = "M", default_value_t = 0.0, allow_hyphen_values = true)]
-    pub elevation: f64,
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub elevation: Option<f64>,
 }
 
 /// Options of the estimator shared by `fit`, `compare`, `sheet` and `batch`.
 #[derive(Args, Debug, Clone)]
 pub struct EstimatorArgs {
-    /// Damping terms to fit: any of viscous, coulomb, quadratic, comma separated.
-    #[arg(long, value_name = "TERMS", default_value = "viscous,coulomb")]
-    pub damping: String,
+    /// Damping terms to fit: any of viscous, coulomb, quadratic, comma separated, or "auto"
+    /// (the default: compare every set and fit the one the comparison selects).
+    #[arg(long, value_name = "TERMS|auto")]
+    pub damping: Option<String>,
     /// Moving-block bootstrap replicates for the intervals (0: analytic intervals).
     #[arg(long, value_name = "N", default_value_t = 0)]
     pub bootstrap: usize,
@@ -56,10 +58,24 @@ pub struct EstimatorArgs {
 }
 
 impl EstimatorArgs {
-    /// The library's fit options.
+    /// The damping choice: the given set, or automatic (no --damping, or "auto").
+    pub fn choice(&self) -> Result<DampingChoice, Failure> {
+        match self.damping.as_deref().map(str::trim) {
+            None => Ok(DampingChoice::Auto),
+            Some(w) if w.eq_ignore_ascii_case("auto") => Ok(DampingChoice::Auto),
+            Some(w) => DampingSet::parse(w)
+                .map(DampingChoice::Terms)
+                .map_err(|e| Failure::input(format!("--damping: {e}, or \"auto\""))),
+        }
+    }
+
+    /// The library's fit options (damping: the given set, or the default set for `auto`,
+    /// which the workflow replaces by the one it chooses).
     pub fn options(&self) -> Result<FitOptions, Failure> {
-        let damping = DampingSet::parse(&self.damping)
-            .map_err(|e| Failure::input(format!("--damping: {e}")))?;
+        let damping = match self.choice()? {
+            DampingChoice::Terms(set) => set,
+            DampingChoice::Auto => crate::fit::default_damping(),
+        };
         Ok(FitOptions {
             damping,
             bootstrap: (self.bootstrap > 0).then_some(self.bootstrap),
@@ -122,6 +138,28 @@ pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>,
 
 /// The article's physical inputs, when mass and pivot-to-CG are both given.
 pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
+    // An uncertainty, or a qualifier, without the value it belongs to is a mistake, not a no-op.
+    for (given, option, needs) in [
+        (args.mass_std.is_some() && args.mass.is_none(), "--mass-std", "--mass"),
+        (
+            args.pivot_to_cg_std.is_some() && args.pivot_to_cg.is_none(),
+            "--pivot-to-cg-std",
+            "--pivot-to-cg",
+        ),
+        (
+            args.gravity_std.is_some() && args.gravity.is_none() && args.latitude.is_none(),
+            "--gravity-std",
+            "--gravity or --latitude",
+        ),
+        (args.elevation.is_some() && args.latitude.is_none(), "--elevation", "--latitude"),
+    ] {
+        if given {
+            return Err(Failure::input(format!(
+                "{option} was given without {needs}: give the value it belongs to, or drop {option}"
+            )));
+        }
+    }
+    let gravity_std = args.gravity_std.unwrap_or(0.0);
     match (args.mass, args.pivot_to_cg) {
         (None, None) => Ok(None),
         (Some(_), None) | (None, Some(_)) => Err(Failure::input(
@@ -129,14 +167,16 @@ pub fn article(args: &ArticleArgs) -> Result<Option<ArticleInputs>, Failure> {
         )),
         (Some(m), Some(d)) => {
             let gravity = match (args.gravity, args.latitude) {
-                (Some(g), _) => Gravity::given(g, args.gravity_std),
-                (None, Some(lat)) => Gravity::at_location(lat, args.elevation, args.gravity_std),
+                (Some(g), _) => Gravity::given(g, gravity_std),
+                (None, Some(lat)) => {
+                    Gravity::at_location(lat, args.elevation.unwrap_or(0.0), gravity_std)
+                }
                 (None, None) => Ok(Gravity::standard()),
             }
             .map_err(|e| Failure::input(format!("gravity: {e}")))?;
             let inputs = ArticleInputs {
-                mass: Measured { value: m, u: args.mass_std },
-                pivot_to_cg: Measured { value: d, u: args.pivot_to_cg_std },
+                mass: Measured { value: m, u: args.mass_std.unwrap_or(0.0) },
+                pivot_to_cg: Measured { value: d, u: args.pivot_to_cg_std.unwrap_or(0.0) },
                 gravity,
                 r_mass_pivot: 0.0,
             };
@@ -156,9 +196,29 @@ pub fn physical_of(
         .transpose()
 }
 
+/// The exit of a command whose fit was printed: status 3 when the model does not explain the
+/// log (the numbers were printed under the not-a-calibration banner).
+pub fn adequacy_exit(fit: &FitOutcome) -> CmdResult {
+    if fit.adequacy.verdict == crate::fit::adequacy::Adequacy::NotExplained {
+        Err(Failure {
+            code: 3,
+            message: "the model does not explain the log: the numbers printed are not a calibration (see the adequacy line)".into(),
+        })
+    } else {
+        Ok(())
+    }
+}
+
+/// Choose the damping (or take the given set) and fit.
+pub fn choose_and_fit(logs: &[AngleLog], estimator: &EstimatorArgs) -> Result<Chosen, Failure> {
+    let choice = estimator.choice()?;
+    let base = estimator.options()?;
+    workflow::choose_and_fit(logs, choice, &base).map_err(Failure::rejected)
+}
+
 /// Run `fit`.
 pub fn run(args: &FitArgs) -> CmdResult {
-    let options = args.estimator.options()?;
+    args.estimator.choice()?;
     if let Some(p) = &args.plot {
         plot::check_chart_path(p).map_err(Failure::input)?;
     }
@@ -169,10 +229,15 @@ pub fn run(args: &FitArgs) -> CmdResult {
         ));
     }
     let logs = load_all(&args.logs, &args.loader)?;
-    let outcome = fit::fit(&logs, &options).map_err(Failure::rejected)?;
-    let physical = physical_of(&outcome, article.as_ref())?;
+    let chosen = choose_and_fit(&logs, &args.estimator)?;
+    let outcome = &chosen.outcome;
+    let choice = crate::report::verdict::choice_line(&chosen);
+    let physical = physical_of(outcome, article.as_ref())?;
     if let Some(path) = &args.json {
-        let doc = json::to_pretty(&json::fit_doc(&outcome, physical.as_ref()));
+        let mut doc = json::fit_doc(outcome, physical.as_ref());
+        doc.damping_choice = Some(choice.clone());
+        doc.inputs = physical.as_ref().and(article.as_ref()).map(json::inputs_doc);
+        let doc = json::to_pretty(&doc);
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
     }
@@ -187,10 +252,10 @@ pub fn run(args: &FitArgs) -> CmdResult {
         let chart = plot::fit_overlay(&runs, outcome.omega_n.value, "fit");
         plot::write_chart(&chart, path).map_err(Failure::input)?;
     }
-    print!("{}", table::fit_table(&outcome, physical.as_ref()));
+    print!("{}", table::fit_table(outcome, physical.as_ref(), article.as_ref(), Some(&choice)));
     if let (true, Some(p)) = (args.budget, &physical) {
         println!();
         print!("{}", crate::report::budget::budget_table(&p.budgets));
     }
-    Ok(())
+    adequacy_exit(outcome)
 }

@@ -12,10 +12,7 @@ use clap::Args;
 use super::fit::{ArticleArgs, EstimatorArgs, article, load_all, physical_of};
 use super::{CmdResult, Failure, LoaderArgs};
 use crate::article::{self as article_file, DampingChoice};
-use crate::data::AngleLog;
-use crate::fit::compare::{self, CompareOptions, Comparison};
-use crate::fit::{self, FitOptions, FitOutcome};
-use crate::model::DampingSet;
+use crate::fit::workflow;
 use crate::report::plot::RunView;
 use crate::report::sheet::{self, Identity, InputDigest, Provenance, SheetInput};
 
@@ -81,7 +78,9 @@ fn file_label(p: &Path) -> String {
 }
 
 fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
-    let auto_flag = args.compare || args.estimator.damping.trim().eq_ignore_ascii_case("auto");
+    let given = args.estimator.choice()?;
+    let auto_flag =
+        args.compare || (args.estimator.damping.is_some() && given == DampingChoice::Auto);
     match args.inputs.as_slice() {
         [one] if is_article_file(one) => {
             if args.mass.mass.is_some() || args.mass.pivot_to_cg.is_some() || args.article.is_some()
@@ -129,11 +128,7 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
                 )));
             }
             let physical = article(&args.mass)?;
-            let damping = if auto_flag {
-                DampingChoice::Auto
-            } else {
-                DampingChoice::Terms(args.estimator.options()?.damping)
-            };
+            let damping = if args.compare { DampingChoice::Auto } else { given };
             let name = args.article.clone().unwrap_or_else(|| "unnamed article".into());
             Ok(Plan {
                 identity: Identity {
@@ -156,49 +151,11 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
     }
 }
 
-/// Fit the chosen damping, or compare and fit the winner.
-fn fit_plan(
-    logs: &[AngleLog],
-    choice: DampingChoice,
-    base: FitOptions,
-) -> Result<(FitOutcome, Option<Comparison>), Failure> {
-    match choice {
-        DampingChoice::Terms(set) => {
-            let outcome =
-                fit::fit(logs, &FitOptions { damping: set, ..base }).map_err(Failure::rejected)?;
-            Ok((outcome, None))
-        }
-        DampingChoice::Auto => {
-            let options =
-                CompareOptions { candidates: DampingSet::all_nonempty(), fit: base.clone() };
-            let c = compare::compare(logs, &options);
-            let Some(best) = c.best else {
-                return Err(Failure::rejected(format!(
-                    "no damping set explains the decay: {}",
-                    c.verdict
-                )));
-            };
-            let found = c
-                .candidates
-                .iter()
-                .find(|e| e.damping == best)
-                .and_then(|e| e.fit.as_ref().ok())
-                .cloned();
-            let outcome = match found {
-                Some(f) => f,
-                None => fit::fit(logs, &FitOptions { damping: best, ..base })
-                    .map_err(Failure::rejected)?,
-            };
-            Ok((outcome, Some(c)))
-        }
-    }
-}
-
 /// Run `sheet`.
 pub fn run(args: &SheetArgs) -> CmdResult {
     let plan = plan(args)?;
     sheet::check_destination(&args.out, args.force).map_err(Failure::input)?;
-    let base = FitOptions { damping: crate::fit::default_damping(), ..args.estimator_options()? };
+    let base = args.estimator.options()?;
     let mut logs = Vec::new();
     for (path, loader, _) in &plan.logs {
         logs.extend(load_all(std::slice::from_ref(path), loader)?);
@@ -216,8 +173,11 @@ pub fn run(args: &SheetArgs) -> CmdResult {
                 .map_err(|e| Failure::input(format!("{}: {e}", path.display())))?,
         );
     }
-    let (outcome, comparison) = fit_plan(&logs, plan.damping, base)?;
-    let physical = physical_of(&outcome, plan.physical.as_ref())?;
+    let chosen = workflow::choose_and_fit(&logs, plan.damping, &base).map_err(Failure::rejected)?;
+    let choice = crate::report::verdict::choice_line(&chosen);
+    let outcome = &chosen.outcome;
+    let comparison = chosen.comparison();
+    let physical = physical_of(outcome, plan.physical.as_ref())?;
     let runs: Vec<RunView<'_>> = logs
         .iter()
         .zip(&outcome.runs)
@@ -233,22 +193,22 @@ pub fn run(args: &SheetArgs) -> CmdResult {
     let input = SheetInput {
         identity: plan.identity,
         runs,
-        fit: &outcome,
+        fit: outcome,
         physical: physical.as_ref(),
-        comparison: comparison.as_ref(),
+        comparison,
         damping_auto: matches!(plan.damping, DampingChoice::Auto),
         provenance: Provenance::now(&argv, inputs),
     };
     let written = sheet::write_sheet(&args.out, args.force, &input).map_err(Failure::input)?;
     println!("wrote {} ({} files)", written.dir.display(), written.files.len());
-    print!("{}", crate::report::table::fit_table(&outcome, physical.as_ref()));
-    Ok(())
-}
-
-impl SheetArgs {
-    /// Estimator options without the damping (which the plan decides).
-    fn estimator_options(&self) -> Result<FitOptions, Failure> {
-        let est = EstimatorArgs { damping: "viscous".into(), ..self.estimator.clone() };
-        est.options()
-    }
+    print!(
+        "{}",
+        crate::report::table::fit_table(
+            outcome,
+            physical.as_ref(),
+            plan.physical.as_ref(),
+            Some(&choice)
+        )
+    );
+    super::fit::adequacy_exit(outcome)
 }

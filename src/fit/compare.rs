@@ -2,15 +2,17 @@
 //!
 //! Each candidate (by default the seven non-empty subsets of viscous, Coulomb, quadratic) is
 //! fitted, smallest first, each one started from the best fitted subset of it. The evidence per
-//! candidate: RSS, Gaussian AIC (Akaike 1974) and BIC (Schwarz 1978), the nested F-test for each
-//! added term (approximate for nonlinear models; Bates & Watts 1988 ch. 3 [memory]), the
-//! Ljung–Box p-value of the residuals (Ljung & Box 1978), the RMS residual against the noise floor
-//! of the survey, whether every fitted term is significant (its 95 % interval excludes zero), and
-//! the model's half-cycle envelope beside the measured one.
+//! candidate: RSS, Gaussian AIC (Akaike 1974) and BIC (Schwarz 1978), the test of each added
+//! term (a Wald test with the fit's own standard uncertainty, plain or HAC, so a term is
+//! significant exactly when its 95 % interval excludes zero; reported as F = (b/u)² on
+//! (1, ν) degrees of freedom), the Ljung–Box p-value of the residuals (Ljung & Box 1978), the RMS
+//! residual against the noise floor of the survey, the fit's adequacy verdict
+//! ([`crate::fit::adequacy`]), and the model's half-cycle envelope beside the measured one.
 //!
 //! Decision rule (common practice, stated so it can be argued with):
-//! - a candidate *explains the decay* when its RMS residual is within [`EXPLAIN_RATIO`] of the
-//!   noise floor of every run;
+//! - a candidate *explains the decay* when its adequacy verdict is `explained` (no residual
+//!   structure that follows the swing, half cycles reproduced); coloured sensor noise does not
+//!   stop a candidate from explaining the decay;
 //! - among candidates whose terms are all significant, the lowest BIC is preferred;
 //! - when none explains the decay the comparison names no best set: it says so and what the
 //!   residuals look like, rather than naming the least bad;
@@ -18,18 +20,17 @@
 //!   indistinguishable on these data (Kass & Raftery 1995 call ΔBIC < 2 "not worth more than a
 //!   bare mention" [memory]), with the test that would separate them.
 
-use std::fmt::Write as _;
-
 use crate::data::AngleLog;
 use crate::data::survey::{Peak, Survey, survey};
+use crate::fit::adequacy::Adequacy;
 use crate::fit::start::period_ratio;
 use crate::fit::{FitError, FitOptions, FitOutcome, fit_surveyed};
 use crate::integrate::{self, Event, Method};
 use crate::model::{DampingSet, Release, Term};
 use crate::stats;
 
-/// A candidate explains the decay when RMS residual ≤ this × noise floor (common practice).
-pub const EXPLAIN_RATIO: f64 = 1.5;
+/// RMS residual ≤ this × noise floor counts as "at the noise floor" (common practice).
+pub const EXPLAIN_RATIO: f64 = crate::fit::adequacy::NOISE_RATIO_LIMIT;
 
 /// BIC differences below this do not separate two candidates (Kass & Raftery 1995 [memory]).
 pub const BIC_TIE: f64 = 2.0;
@@ -45,11 +46,11 @@ pub struct CompareOptions {
 
 impl Default for CompareOptions {
     fn default() -> CompareOptions {
-        CompareOptions { candidates: DampingSet::all_nonempty(), fit: FitOptions::default() }
+        CompareOptions { candidates: default_candidates(), fit: FitOptions::default() }
     }
 }
 
-/// A nested F-test of one added term.
+/// The test of one added term: Wald, F = (b/u)² against F(1, ν) with the fit's own u and ν.
 #[derive(Clone, Debug, PartialEq)]
 pub struct AddedTerm {
     /// The smaller set.
@@ -156,8 +157,6 @@ pub struct Comparison {
     pub explained: bool,
     /// Candidates indistinguishable from the best on these data.
     pub ties: Vec<DampingSet>,
-    /// The verdict in words with its numbers.
-    pub verdict: String,
     /// Measured half-cycle peaks per run.
     pub measured_peaks: Vec<Vec<Peak>>,
     /// Envelope laws fitted to the measured peaks (all runs), best first.
@@ -174,6 +173,16 @@ impl Comparison {
         self.best.and_then(|b| self.candidates.iter().find(|c| c.damping == b))
     }
 
+    /// The set the "choose, then fit" workflow fits: the best, or when none explains the decay
+    /// the least bad (lowest BIC among candidates whose terms are all significant, else among all
+    /// fitted), with its own adequacy verdict.
+    pub fn selected(&self) -> Option<&FitOutcome> {
+        match self.best {
+            Some(b) => self.candidates.iter().find(|c| c.damping == b).and_then(|c| c.outcome()),
+            None => self.candidates.iter().find_map(|c| c.outcome()),
+        }
+    }
+
     /// The best envelope law.
     pub fn envelope_law(&self) -> EnvelopeLaw {
         self.envelope.laws.first().map(|l| l.0).unwrap_or(EnvelopeLaw::Exponential)
@@ -183,6 +192,22 @@ impl Comparison {
 /// Compare the candidates on `logs`.
 pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
     let surveys: Vec<Survey> = logs.iter().map(survey).collect();
+    compare_surveyed(logs, &surveys, options)
+}
+
+/// The candidate sets a comparison fits by default: every non-empty subset of the damping terms.
+/// (One place to extend when a new term joins.)
+pub fn default_candidates() -> Vec<DampingSet> {
+    DampingSet::all_nonempty()
+}
+
+/// [`compare`] with the surveys already made.
+pub fn compare_surveyed(
+    logs: &[AngleLog],
+    surveys: &[Survey],
+    options: &CompareOptions,
+) -> Comparison {
+    let surveys = surveys.to_vec();
     let mut sets = options.candidates.clone();
     sets.sort_by_key(|s| (s.len(), *s));
     sets.dedup();
@@ -249,7 +274,7 @@ fn assemble(
                     rms_residual: f.rms_residual(),
                     noise_ratio,
                     all_significant,
-                    explains_decay: noise_ratio <= EXPLAIN_RATIO,
+                    explains_decay: f.adequacy.verdict == Adequacy::Explained,
                     added_terms: Vec::new(),
                     model_peaks: model_peaks(logs, f),
                 }
@@ -270,20 +295,26 @@ fn assemble(
             },
         })
         .collect();
-    // Nested F-tests: every successful candidate against each successful subset with one term fewer.
-    let snapshot: Vec<(DampingSet, f64, usize)> =
-        cands.iter().filter_map(|c| c.outcome().map(|f| (c.damping, f.rss, f.x.len()))).collect();
+    // Added-term tests: every successful candidate against each successful subset with one
+    // term fewer, as a Wald test of the added coefficient with the larger fit's own standard
+    // uncertainty (plain or HAC), so that "significant" and "interval excludes zero" agree.
+    let fitted: Vec<DampingSet> =
+        cands.iter().filter(|c| c.fit.is_ok()).map(|c| c.damping).collect();
     for c in cands.iter_mut() {
         let Some(f) = c.outcome() else { continue };
-        let (rss_l, p_l) = (f.rss, f.x.len());
-        for &(s, rss_s, p_s) in &snapshot {
+        let mut tests = Vec::new();
+        for &s in &fitted {
             if s.len() + 1 == c.damping.len() && s.is_subset(c.damping) {
-                let term = c.damping.iter().find(|t| !s.contains(*t)).unwrap_or(Term::Viscous);
-                if let Ok(t) = stats::nested_f_test(n_obs, rss_s, p_s, rss_l, p_l) {
-                    c.added_terms.push(AddedTerm { from: s, term, f: t.f, p_value: t.p_value });
+                let Some(term) = c.damping.iter().find(|t| !s.contains(*t)) else { continue };
+                let Some(e) = f.term(term) else { continue };
+                let z = e.value / e.std.max(1e-300);
+                let fstat = z * z;
+                if let Ok(p_value) = stats::f_sf(fstat, 1.0, f.interval_dof.max(1.0)) {
+                    tests.push(AddedTerm { from: s, term, f: fstat, p_value });
                 }
             }
         }
+        c.added_terms = tests;
     }
     // Rank: successful first, by (eligible, BIC).
     cands.sort_by(|a, b| {
@@ -312,13 +343,11 @@ fn assemble(
         .and_then(|c| c.outcome())
         .map(|f| period_curve(f, &period_points))
         .unwrap_or_default();
-    let verdict = verdict(&cands, best, &ties, &envelope, logs);
     Comparison {
         candidates: cands,
         best,
         explained,
         ties,
-        verdict,
         measured_peaks,
         envelope,
         period_points,
@@ -439,140 +468,4 @@ fn period_curve(f: &FitOutcome, points: &[Vec<PeriodPoint>]) -> Vec<(f64, f64)> 
     let zeta = f.physics.coef(Term::Viscous) / (2.0 * w);
     let t0 = 2.0 * std::f64::consts::PI / (w * (1.0 - zeta * zeta).max(1e-12).sqrt());
     (0..=60).map(|i| amax * 1.05 * i as f64 / 60.0).map(|a| (a, t0 * period_ratio(a))).collect()
-}
-
-fn fmt_p(p: f64) -> String {
-    if p < 1e-300 { "< 1e-300".into() } else { format!("= {p:.2e}") }
-}
-
-/// The verdict in words with its numbers.
-fn verdict(
-    cands: &[CandidateEvidence],
-    best: Option<DampingSet>,
-    ties: &[DampingSet],
-    env: &EnvelopeFits,
-    logs: &[AngleLog],
-) -> String {
-    let mut v = String::new();
-    let ok: Vec<&CandidateEvidence> = cands.iter().filter(|c| c.fit.is_ok()).collect();
-    if ok.is_empty() {
-        let _ = write!(v, "No candidate could be fitted: ");
-        let reasons: Vec<String> = cands
-            .iter()
-            .filter_map(|c| c.fit.as_ref().err().map(|e| format!("{}: {e}", c.damping)))
-            .collect();
-        let _ = write!(v, "{}.", reasons.join("; "));
-        return v;
-    }
-    // `best` is always one of `cands` (it is chosen from them); the pairing keeps that explicit.
-    match best.and_then(|b| cands.iter().find(|c| c.damping == b).map(|c| (b, c))) {
-        Some((b, c)) => {
-            let _ = write!(
-                v,
-                "{} explains the decay to the noise floor (RMS residual {:.2}x the noise floor, Ljung-Box p {:.2}, every term significant).",
-                b, c.noise_ratio, c.ljung_box_p
-            );
-            // Larger sets: which added terms the data do not support.
-            for big in cands.iter().filter(|x| {
-                x.fit.is_ok() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1
-            }) {
-                let term = big.damping.iter().find(|t| !b.contains(*t)).unwrap_or(Term::Viscous);
-                let ft = big.added_terms.iter().find(|a| a.from == b);
-                let est = big.outcome().and_then(|f| f.term(term).cloned());
-                let _ = write!(v, " Adding {term} is not supported");
-                if let Some(ft) = ft {
-                    let _ = write!(v, " (F = {:.3}, p {}", ft.f, fmt_p(ft.p_value));
-                    if let Some(e) = est {
-                        let _ = write!(
-                            v,
-                            "; {} = {:.3e} ± {:.1e} {}",
-                            term.symbol(),
-                            e.value,
-                            0.5 * (e.ci95.1 - e.ci95.0),
-                            e.unit
-                        );
-                    }
-                    let _ = write!(v, ")");
-                }
-                let _ = write!(v, ".");
-            }
-            for big in cands.iter().filter(|x| {
-                x.fit.is_err() && b.is_subset(x.damping) && x.damping.len() == b.len() + 1
-            }) {
-                let _ = write!(
-                    v,
-                    " {} could not be fitted ({}).",
-                    big.damping,
-                    big.fit.as_ref().err().map(|e| e.to_string()).unwrap_or_default()
-                );
-            }
-            // Smaller sets: how far each falls short.
-            for small in cands.iter().filter(|x| {
-                x.fit.is_ok() && x.damping.is_subset(b) && x.damping.len() + 1 == b.len()
-            }) {
-                let ft = cands
-                    .iter()
-                    .find(|x| x.damping == b)
-                    .and_then(|x| x.added_terms.iter().find(|a| a.from == small.damping));
-                let _ = write!(
-                    v,
-                    " {} alone leaves {:.2}x the noise floor",
-                    small.damping, small.noise_ratio
-                );
-                if let Some(ft) = ft {
-                    let term =
-                        b.iter().find(|t| !small.damping.contains(*t)).unwrap_or(Term::Viscous);
-                    let _ =
-                        write!(v, " (adding {term}: F = {:.3e}, p {})", ft.f, fmt_p(ft.p_value));
-                }
-                let _ = write!(v, ".");
-            }
-            if !ties.is_empty() {
-                let names: Vec<String> = ties.iter().map(|t| t.to_string()).collect();
-                let _ = write!(
-                    v,
-                    " But {} explain{} the decay as well (BIC within {BIC_TIE}): these data cannot tell them apart; {}",
-                    names.join(" and "),
-                    if ties.len() == 1 { "s" } else { "" },
-                    separating_test(b, ties, logs)
-                );
-            }
-        }
-        None => {
-            let least = ok[0];
-            let _ = write!(
-                v,
-                "No candidate explains the decay: the best fit, {}, leaves {:.1}x the noise floor (RMS residual {:.3e} rad, Ljung-Box p {:.1e}); the residuals are structured, which points to something none of these damping models describes: a loose or flexing article, an applied or disturbing torque, a drifting or faulty sensor, or a pivot that moves.",
-                least.damping, least.noise_ratio, least.rms_residual, least.ljung_box_p
-            );
-            if !least.all_significant {
-                let _ = write!(v, " (It also has terms whose intervals include zero.)");
-            }
-        }
-    }
-    if let Some((law, rms)) = env.laws.first() {
-        let _ = write!(
-            v,
-            " Measured envelope: best described as {} (RMS misfit {:.2e} rad).",
-            law.describe(),
-            rms
-        );
-    }
-    v
-}
-
-/// What test would separate candidates that explain one log equally well.
-fn separating_test(best: DampingSet, ties: &[DampingSet], logs: &[AngleLog]) -> String {
-    let involves = |t: Term| best.contains(t) || ties.iter().any(|s| s.contains(t));
-    let mut tips = Vec::new();
-    if involves(Term::Quadratic) && logs.len() < 2 {
-        tips.push("a second release at a clearly different amplitude (air drag grows with amplitude, viscous loss does not)");
-    }
-    if involves(Term::Coulomb) {
-        tips.push("a longer log that follows the decay into small amplitudes (dry friction makes the tail linear and stops the article)");
-    }
-    if tips.is_empty() {
-        tips.push("a longer log or a second release amplitude");
-    }
-    format!("would separate them: {}.", tips.join("; or "))
 }

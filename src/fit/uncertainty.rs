@@ -161,6 +161,15 @@ pub enum IntervalMethod {
         /// Standard-error inflation factor √(n/n_eff).
         factor: f64,
     },
+    /// HAC sandwich covariance (Bartlett weights) for correlated residuals; see `fit::robust`.
+    Hac {
+        /// Lag-1 autocorrelation of the residuals (largest over runs).
+        rho1: f64,
+        /// Largest Bartlett bandwidth over runs [samples].
+        bandwidth: usize,
+        /// Degrees of freedom of the coverage factor.
+        dof: f64,
+    },
     /// SE from the scatter of refits on model + moving-block-resampled residuals.
     Bootstrap {
         /// Number of refits used.
@@ -233,6 +242,16 @@ fn build(
         })
         .collect();
     Ok(IntervalSet { method, dof, coverage_factor: t, params, whiteness })
+}
+
+/// Intervals x̂ ± t_{0.975, dof}·std from standard errors obtained by `method`.
+pub fn intervals_from_std(
+    x: &DVector<f64>,
+    std: &DVector<f64>,
+    dof: f64,
+    method: IntervalMethod,
+) -> Result<IntervalSet, UncertaintyError> {
+    build(x, std, dof, method, None)
 }
 
 /// Plain Student-t 95 % intervals x̂ ± t_{0.975, n−p}·SE.
@@ -424,8 +443,13 @@ fn is_damping(name: &str) -> bool {
     matches!(name, "viscous" | "coulomb" | "quadratic")
 }
 
-/// Flags for parameters the data cannot identify: each pair with |corr| > 0.98 (one flag, on the
-/// first of the pair) and each parameter whose interval half-width exceeds its |value|.
+/// A coefficient known to better than this relative 95 % half-width is determined, whatever its
+/// correlation with another: a high correlation then costs nothing worth a flag.
+pub const DETERMINED_REL: f64 = 0.1;
+
+/// Flags for parameters the data cannot identify: each pair with |corr| > 0.98 of which at least
+/// one is poorly determined (relative half-width above [`DETERMINED_REL`]; one flag, on the
+/// first of the pair), and each parameter whose interval half-width exceeds its |value|.
 /// `names` labels the parameters (same order as the intervals); missing names become "p<i>".
 pub fn identifiability_flags(
     names: &[&str],
@@ -434,22 +458,29 @@ pub fn identifiability_flags(
 ) -> Vec<Flag> {
     let p = intervals.params.len().min(cov.corr.nrows());
     let name = |i: usize| names.get(i).map(|s| s.to_string()).unwrap_or_else(|| format!("p{i}"));
+    let rel = |i: usize| {
+        let iv = &intervals.params[i];
+        if iv.value != 0.0 { iv.half_width() / iv.value.abs() } else { f64::INFINITY }
+    };
     let mut flags = Vec::new();
     for i in 0..p {
         for j in i + 1..p {
             let r = cov.corr[(i, j)];
-            if r.abs() > CORRELATION_LIMIT {
+            if r.abs() > CORRELATION_LIMIT && (rel(i) > DETERMINED_REL || rel(j) > DETERMINED_REL) {
                 let (a, b) = (name(i), name(j));
+                let worst = if rel(i) >= rel(j) { i } else { j };
                 let hint = if is_damping(&a) && is_damping(&b) {
-                    "a second release at a clearly different amplitude would"
+                    "releases at two clearly different amplitudes separate them, because the terms scale differently with amplitude"
                 } else {
-                    "a longer record or a second release would"
+                    "a longer record or a second release separates them"
                 };
                 flags.push(Flag {
                     param: i,
                     kind: FlagKind::Correlated { other: j, r },
                     message: format!(
-                        "{a} and {b} are {r:.3} correlated: the data cannot separate them; {hint}"
+                        "{a} and {b} are {r:.3} correlated and {} is known only to ±{:.0} %: these data hardly separate them; {hint}",
+                        name(worst),
+                        100.0 * rel(worst).min(9.99e4)
                     ),
                 });
             }
@@ -460,7 +491,7 @@ pub fn identifiability_flags(
         if hw > iv.value.abs() {
             let n = name(i);
             let hint = if is_damping(&n) {
-                "the term may be absent; try the fit without it"
+                "these data cannot tell whether the term is present; the intervals of the other coefficients allow for it"
             } else {
                 "the data barely constrain it"
             };
@@ -468,7 +499,7 @@ pub fn identifiability_flags(
                 param: i,
                 kind: FlagKind::WideInterval { half_width: hw },
                 message: format!(
-                    "{n} is not identified: its 95 % interval ±{hw:.3e} is wider than its value {:.3e}; {hint}",
+                    "{n} is not identified: its 95 % interval ±{hw:.1e} is wider than its value {:.1e}; {hint}",
                     iv.value
                 ),
             });

@@ -19,7 +19,13 @@
 //!   "budget": [ { "quantity", "value", "unit", "std",                 only with `physical`
 //!                 "inputs": [ { "input", "value", "unit", "std", "sensitivity",
 //!                               "sensitivity_unit", "contribution", "share" } ],
-//!                 "correlations": [ { "a", "b", "r", "term", "term_unit", "share" } ] } ] }
+//!                 "correlations": [ { "a", "b", "r", "term", "term_unit", "share" } ] } ],
+//!   "adequacy": { "verdict": "explained" | "approximate" | "not_explained", "sensor_like",
+//!                 "summary", "noise_ratio", "whiteness_p", "swing_locked", "amplitude_error",
+//!                 "duration_error", "runs": [ { same figures per run, "lag1", "half_cycles" } ] },
+//!   "damping_choice": "…",                         how the set was chosen, in words
+//!   "inputs": { "mass": I, "pivot_to_cg": I, "gravity": I } }   only with `physical`
+//! I = { "value", "std", "unit", "stated": bool, "note": "taken as exact…" | null }
 //! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
 //! ```
 //! Units: omega_n rad/s; normalized viscous 1/s, coulomb rad/s², quadratic 1/rad; physical inertia
@@ -202,6 +208,124 @@ pub struct Vector {
     pub start: Vec<f64>,
 }
 
+/// The adequacy verdict with its figures (see `fit::adequacy`).
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct AdequacyDoc {
+    /// `explained`, `approximate` or `not_explained`.
+    pub verdict: &'static str,
+    /// The residual structure looks like sensor noise (coloured or drifting), not a missing term.
+    pub sensor_like: bool,
+    /// The verdict in words.
+    pub summary: String,
+    /// Worst RMS residual / survey noise floor.
+    pub noise_ratio: f64,
+    /// Smallest Ljung–Box p.
+    pub whiteness_p: f64,
+    /// Worst swing-locked over off-swing residual power (κ).
+    pub swing_locked: f64,
+    /// Worst relative RMS error of half-cycle peak-to-peak amplitudes.
+    pub amplitude_error: f64,
+    /// Worst RMS error of cycle durations relative to the period.
+    pub duration_error: f64,
+    /// Per run.
+    pub runs: Vec<AdequacyRunDoc>,
+}
+
+/// The adequacy figures of one run.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct AdequacyRunDoc {
+    /// RMS residual / survey noise floor.
+    pub noise_ratio: f64,
+    /// Ljung–Box p.
+    pub whiteness_p: f64,
+    /// Lag-1 autocorrelation of the residuals.
+    pub lag1: f64,
+    /// κ.
+    pub swing_locked: f64,
+    /// Relative RMS error of half-cycle peak-to-peak amplitudes.
+    pub amplitude_error: f64,
+    /// RMS error of cycle durations relative to the period.
+    pub duration_error: f64,
+    /// Half cycles compared.
+    pub half_cycles: usize,
+}
+
+/// The adequacy block of a fit.
+pub fn adequacy_doc(a: &crate::fit::adequacy::AdequacyReport) -> AdequacyDoc {
+    AdequacyDoc {
+        verdict: a.verdict.name(),
+        sensor_like: a.sensor_like,
+        summary: crate::report::verdict::adequacy_line(a),
+        noise_ratio: a.worst(|r| r.noise_ratio),
+        whiteness_p: a.whiteness_p(),
+        swing_locked: a.worst(|r| r.swing_locked),
+        amplitude_error: a.worst(|r| r.amplitude_error),
+        duration_error: a.worst(|r| r.duration_error),
+        runs: a
+            .runs
+            .iter()
+            .map(|r| AdequacyRunDoc {
+                noise_ratio: r.noise_ratio,
+                whiteness_p: r.whiteness_p,
+                lag1: r.lag1,
+                swing_locked: r.swing_locked,
+                amplitude_error: r.amplitude_error,
+                duration_error: r.duration_error,
+                half_cycles: r.half_cycles,
+            })
+            .collect(),
+    }
+}
+
+/// An input of the physical coefficients as the user stated it.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct InputDoc {
+    /// Value.
+    pub value: f64,
+    /// Standard uncertainty (0 when none was given).
+    pub std: f64,
+    /// SI unit.
+    pub unit: &'static str,
+    /// Whether an uncertainty was given.
+    pub stated: bool,
+    /// "taken as exact …" when none was given.
+    pub note: Option<String>,
+}
+
+/// The stated inputs.
+#[derive(Serialize, Debug, Clone, PartialEq)]
+pub struct InputsDoc {
+    /// Mass.
+    pub mass: InputDoc,
+    /// Pivot-to-CG distance.
+    pub pivot_to_cg: InputDoc,
+    /// Gravity.
+    pub gravity: InputDoc,
+}
+
+/// The inputs block for the article's mass properties and gravity.
+pub fn inputs_doc(a: &crate::physical::ArticleInputs) -> InputsDoc {
+    let one = |value: f64, u: f64, unit: &'static str| InputDoc {
+        value,
+        std: u,
+        unit,
+        stated: u > 0.0,
+        note: (u <= 0.0).then(|| "taken as exact: no uncertainty given".to_string()),
+    };
+    let mut gravity = one(a.gravity.value, a.gravity.u, "m/s^2");
+    if a.gravity.u <= 0.0 && a.gravity.source == crate::physical::GravitySource::Standard {
+        gravity.note = Some(
+            "standard gravity taken as exact; the local value differs from it by up to 0.3 %"
+                .into(),
+        );
+    }
+    InputsDoc {
+        mass: one(a.mass.value, a.mass.u, "kg"),
+        pivot_to_cg: one(a.pivot_to_cg.value, a.pivot_to_cg.u, "m"),
+        gravity,
+    }
+}
+
 /// The whole fit document.
 #[derive(Serialize, Debug, Clone, PartialEq)]
 pub struct FitDoc {
@@ -230,6 +354,14 @@ pub struct FitDoc {
     /// GUM budget of every physical value (with `physical`).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub budget: Vec<BudgetDoc>,
+    /// The adequacy verdict.
+    pub adequacy: AdequacyDoc,
+    /// How the damping set was chosen, in words (set by the caller).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub damping_choice: Option<String>,
+    /// The stated inputs of the physical coefficients (set by the caller, with `physical`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub inputs: Option<InputsDoc>,
 }
 
 /// One input of a budget on the wire.
@@ -398,6 +530,9 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
         },
         flags: fit.flags.clone(),
         budget: physical.map(|p| p.budgets.iter().map(budget_doc).collect()).unwrap_or_default(),
+        adequacy: adequacy_doc(&fit.adequacy),
+        damping_choice: None,
+        inputs: None,
     }
 }
 
@@ -437,12 +572,15 @@ pub struct CandidateDoc {
     pub noise_ratio: f64,
     /// Every term's 95 % interval excludes zero.
     pub all_significant: bool,
-    /// Explains the decay to the noise floor.
+    /// Explains the decay (adequacy `explained`).
     pub explains_decay: bool,
+    /// The candidate fit's adequacy verdict (absent when it failed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub adequacy: Option<AdequacyDoc>,
     /// Per-unit-inertia estimates.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub normalized: Option<Normalized>,
-    /// F-tests against nested candidates with one term fewer.
+    /// Wald tests of the term added to each nested candidate with one term fewer.
     pub added_terms: Vec<AddedTermDoc>,
     /// Model half-cycle peaks per run: [t s, deflection rad].
     pub model_peaks: Vec<Vec<[f64; 2]>>,
@@ -476,6 +614,8 @@ pub struct CompareDoc {
     pub candidates: Vec<CandidateDoc>,
     /// Verdict in words.
     pub verdict: String,
+    /// The set `fit` and `sheet` take by default: the best, or the least bad when none explains.
+    pub selected: Option<Vec<&'static str>>,
     /// Envelope laws on the measured peaks with RMS misfit [rad], best first.
     pub envelope_laws: Vec<(&'static str, f64)>,
     /// Measured half-cycle peaks per run: [t s, deflection rad].
@@ -511,6 +651,7 @@ pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
                 noise_ratio: e.noise_ratio,
                 all_significant: e.all_significant,
                 explains_decay: e.explains_decay,
+                adequacy: e.outcome().map(|f| adequacy_doc(&f.adequacy)),
                 normalized: e.outcome().map(|f| fit_doc(f, None).normalized),
                 added_terms: e
                     .added_terms
@@ -525,7 +666,8 @@ pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
                 model_peaks: peaks(&e.model_peaks),
             })
             .collect(),
-        verdict: c.verdict.clone(),
+        verdict: crate::report::verdict::comparison(c),
+        selected: c.selected().map(|f| f.damping.names()),
         envelope_laws: c.envelope.laws.iter().map(|(l, r)| (l.name(), *r)).collect(),
         measured_peaks: peaks(&c.measured_peaks),
         period_points: c

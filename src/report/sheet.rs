@@ -561,7 +561,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
         },
         coefficients: coefficient_rows(fit, input.physical),
         comparison: input.comparison.map(|c| wire::Comparison {
-            verdict: c.verdict.clone(),
+            verdict: crate::report::verdict::comparison(c),
             explained: c.explained,
             best: c.best.map(|b| b.to_string()),
             envelope_law: c.envelope_law().describe(),
@@ -639,10 +639,13 @@ fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
         v.push(("Operator", o.clone()));
     }
     if let Some(m) = &a.mass {
-        v.push(("Mass", format!("{} kg (standard uncertainty {} kg)", m.value, m.std)));
+        v.push(("Mass", crate::report::table::stated(m.value, m.std, "kg", "").trim().to_string()));
     }
     if let Some(d) = &a.pivot_to_cg {
-        v.push(("Pivot to CG", format!("{} m (standard uncertainty {} m)", d.value, d.std)));
+        v.push((
+            "Pivot to CG",
+            crate::report::table::stated(d.value, d.std, "m", "").trim().to_string(),
+        ));
     }
     if let Some(g) = &a.gravity {
         v.push(("Gravity", g.clone()));

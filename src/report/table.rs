@@ -25,7 +25,7 @@ pub fn num(v: f64, sig: usize) -> String {
 }
 
 /// Digits to show so that the half-width keeps two significant figures.
-fn sig_for(value: f64, half: f64) -> usize {
+pub(crate) fn sig_for(value: f64, half: f64) -> usize {
     if !(half.is_finite() && half > 0.0 && value != 0.0) {
         return 6;
     }
@@ -59,9 +59,59 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
     );
 }
 
-/// The fit table printed by `swingfit fit`.
-pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> String {
+/// What the user stated about one input of the physical coefficients, in words: its standard
+/// uncertainty, or that it was taken as exact.
+pub fn stated(value: f64, u: f64, unit: &str, what: &str) -> String {
+    if u > 0.0 {
+        format!(
+            "{what} {} {unit} (standard uncertainty {} {unit})",
+            num(value, sig_for(value, u)),
+            num(u, 2)
+        )
+    } else {
+        format!("{what} {value} {unit} (taken as exact: no uncertainty given)")
+    }
+}
+
+/// The inputs line of the physical block: mass, pivot-to-CG and gravity with their stated
+/// uncertainties, or "taken as exact".
+pub fn inputs_line(a: &crate::physical::ArticleInputs) -> String {
+    let g = if a.gravity.u > 0.0 {
+        format!("{} (standard uncertainty {} m/s^2)", a.gravity.describe(), num(a.gravity.u, 2))
+    } else if a.gravity.source == crate::physical::GravitySource::Standard {
+        format!(
+            "{} (taken as exact; the local value differs from it by up to 0.3 %, give --gravity or --latitude)",
+            a.gravity.describe()
+        )
+    } else {
+        format!("{} (taken as exact: no uncertainty given)", a.gravity.describe())
+    };
+    format!(
+        "  inputs: {}; {}; gravity: {g}",
+        stated(a.mass.value, a.mass.u, "kg", "mass"),
+        stated(a.pivot_to_cg.value, a.pivot_to_cg.u, "m", "pivot-to-CG"),
+    )
+}
+
+/// The fit table printed by `swingfit fit`: the adequacy verdict first (with the
+/// not-a-calibration banner when the model does not explain the log), then `choice` (how the
+/// damping was chosen), then the coefficients.
+pub fn fit_table(
+    fit: &FitOutcome,
+    physical: Option<&PhysicalCoefficients>,
+    inputs: Option<&crate::physical::ArticleInputs>,
+    choice: Option<&str>,
+) -> String {
     let mut o = String::new();
+    let _ = writeln!(o, "{}", crate::report::verdict::adequacy_line(&fit.adequacy));
+    if let Some(c) = choice {
+        let _ = writeln!(o, "{c}");
+    }
+    if fit.adequacy.verdict == crate::fit::adequacy::Adequacy::NotExplained {
+        let _ = writeln!(o);
+        let _ = writeln!(o, "{}", crate::report::verdict::NOT_A_CALIBRATION);
+    }
+    let _ = writeln!(o);
     let _ = writeln!(
         o,
         "Damping model: {}   ({} run{}, {} samples)",
@@ -112,7 +162,14 @@ pub fn fit_table(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> S
         if let Some(q) = &p.damping_ratio {
             qrow(&mut o, "viscous damping ratio zeta", q);
         }
-        let _ = writeln!(o, "  gravity: {}", p.gravity.describe());
+        match inputs {
+            Some(a) => {
+                let _ = writeln!(o, "{}", inputs_line(a));
+            }
+            None => {
+                let _ = writeln!(o, "  gravity: {}", p.gravity.describe());
+            }
+        }
     }
     let _ = writeln!(o);
     let _ = writeln!(o, "Runs");
@@ -180,8 +237,8 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
     let _ = writeln!(o, "Candidates (ranked; BIC = n ln(RSS/n) + p ln n, lower is better)");
     let _ = writeln!(
         o,
-        "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
-        "damping", "status", "RMS rad", "AIC", "BIC", "x noise", "LB p", "sig.", "explains"
+        "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>14}",
+        "damping", "status", "RMS rad", "AIC", "BIC", "x noise", "LB p", "sig.", "adequacy"
     );
     for e in &c.candidates {
         if let Err(err) = &e.fit {
@@ -190,7 +247,7 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
         }
         let _ = writeln!(
             o,
-            "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>9}",
+            "  {:<28} {:>7} {:>12} {:>14} {:>14} {:>9} {:>8} {:>6} {:>14}",
             e.damping.to_string(),
             "ok",
             num(e.rms_residual, 3),
@@ -199,7 +256,7 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
             format!("{:.2}", e.noise_ratio),
             num(e.ljung_box_p, 2),
             if e.all_significant { "yes" } else { "no" },
-            if e.explains_decay { "yes" } else { "no" }
+            e.outcome().map_or("-", |f| f.adequacy.verdict.name())
         );
     }
     let _ = writeln!(o);
@@ -208,7 +265,7 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
         let _ = writeln!(o, "  {:<12} {} rad", law.name(), num(*rms, 3));
     }
     let _ = writeln!(o);
-    let _ = writeln!(o, "Verdict: {}", c.verdict);
+    let _ = writeln!(o, "Verdict: {}", crate::report::verdict::comparison(c));
     o
 }
 
@@ -221,6 +278,9 @@ pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> Stri
         }
         M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
             "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
+        ),
+        M::Hac { rho1, bandwidth, dof } => format!(
+            "HAC sandwich covariance for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}), Bartlett weights over {bandwidth} samples, t on {dof:.0} degrees of freedom (never narrower than s^2 (J^T J)^-1)"
         ),
         M::Bootstrap { replicates, block_length, seed } => format!(
             "moving-block bootstrap, {replicates} refits, blocks of {block_length} samples, seed {seed} (never narrower than the analytic interval)"

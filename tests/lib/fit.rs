@@ -233,7 +233,7 @@ fn growing_oscillation_is_rejected_not_reported() {
     let angles: Vec<f64> = times.iter().map(|t| 0.2 * (0.03 * t).exp() * (4.0 * t).cos()).collect();
     let log = AngleLog::from_samples("growing.csv", times, angles).expect("log");
     let err = fit(&[log], &opts(set(&[Term::Viscous]))).expect_err("must be rejected");
-    assert!(matches!(err, FitError::AtBound { term: Term::Viscous }), "{err}");
+    assert!(matches!(err, FitError::AtBound { term: Term::Viscous, .. }), "{err}");
     assert!(err.to_string().contains("pinned at zero"));
 }
 
@@ -310,7 +310,7 @@ fn bootstrap_intervals_are_seeded_and_never_narrower_than_analytic() {
 fn correlated_residuals_widen_the_intervals_and_say_so() {
     use swingfit::fit::uncertainty::IntervalMethod;
     // Noise smoothed over 9 samples (a low-pass sensor): Ljung–Box rejects whiteness and the
-    // standard uncertainties are widened from the effective sample size.
+    // intervals come from the HAC sandwich, wider than the plain ones.
     let p = physics(4.0, 0.05, 0.0, 0.0);
     let case = Case {
         physics: p,
@@ -334,10 +334,12 @@ fn correlated_residuals_widen_the_intervals_and_say_so() {
     let log = AngleLog::from_samples("lowpass.csv", case.times.clone(), angles).unwrap();
     let f = fit(&[log], &opts(set(&[Term::Viscous]))).expect("fit");
     match f.interval_method {
-        IntervalMethod::EffectiveSampleSize { factor, .. } => {
-            assert!(factor > 2.0, "factor {factor}")
+        IntervalMethod::Hac { bandwidth, dof, .. } => {
+            assert!(bandwidth >= 9, "bandwidth {bandwidth} shorter than the smoothing");
+            assert!(dof >= 1.0 && dof < f.dof as f64, "dof {dof}");
         }
-        ref m => panic!("expected widening, got {m:?}"),
+        ref m => panic!("expected HAC intervals, got {m:?}"),
     }
+    assert!(f.t95 > 1.97, "t on few windows: {}", f.t95);
     assert_covers(&f, &p);
 }

@@ -510,10 +510,19 @@ fn flags_name_inseparable_and_unconstrained_parameters() {
     assert_eq!(flags.len(), 2, "{flags:?}");
     assert_eq!(
         flags[0].message,
-        "coulomb and quadratic are 0.993 correlated: the data cannot separate them; a second release at a clearly different amplitude would"
+        "coulomb and quadratic are 0.993 correlated and quadratic is known only to ±393 %: these data hardly separate them; releases at two clearly different amplitudes separate them, because the terms scale differently with amplitude"
     );
     assert_eq!(flags[0].kind, FlagKind::Correlated { other: 2, r: 0.993 });
     assert_eq!(flags[1].param, 2);
+    // The same correlation between two well-determined coefficients is no flag (issue 10).
+    let tight = unit_covariance(500, &[0.001, 0.0001, 0.0002], {
+        let mut c = DMatrix::identity(3, 3);
+        c[(1, 2)] = 0.993;
+        c[(2, 1)] = 0.993;
+        c
+    });
+    let iv = uncertainty::plain_intervals(&x, &tight).unwrap();
+    assert!(uncertainty::identifiability_flags(&names, &tight, &iv).is_empty());
     assert!(matches!(flags[1].kind, FlagKind::WideInterval { .. }));
     assert!(
         flags[1].message.starts_with("quadratic is not identified: its 95 % interval"),

@@ -3,6 +3,7 @@
 #[path = "../browser/chromium.rs"]
 mod chromium;
 mod compare;
+mod coverage;
 mod data;
 mod fit;
 mod integrate;

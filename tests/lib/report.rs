@@ -11,6 +11,7 @@ use std::time::{Duration, UNIX_EPOCH};
 use approx::assert_relative_eq;
 use nalgebra::{DMatrix, DVector};
 use swingfit::article::{self, DampingChoice};
+use swingfit::fit::adequacy::{Adequacy, AdequacyReport};
 use swingfit::fit::compare::{
     CandidateEvidence, Comparison, EnvelopeFits, EnvelopeLaw, PeriodPoint,
 };
@@ -107,7 +108,10 @@ fn outcome(runs: Vec<RunFit>) -> FitOutcome {
         convergence: Convergence::Cost,
         interval_method: IntervalMethod::Plain,
         t95: 1.96,
+        interval_dof: (n_obs - p) as f64,
         flags: vec!["synthetic flag <check escaping>".into()],
+        notes: vec![],
+        adequacy: AdequacyReport { verdict: Adequacy::Explained, sensor_like: false, runs: vec![] },
     }
 }
 
@@ -159,7 +163,6 @@ fn comparison(run: &RunView<'_>) -> Comparison {
         ],
         best: Some(viscous),
         explained: true,
-        verdict: "viscous explains the decay (synthetic)".into(),
         measured_peaks: vec![peaks(&measured)],
         ties: vec![],
         envelope: EnvelopeFits {
@@ -437,7 +440,7 @@ fn sheet_holds_every_number_and_plot() {
     assert!(html.contains("licensed"), "safety caution");
     let md = std::fs::read_to_string(out.join("sheet.md")).expect("md");
     assert!(md.contains("| physical | moment of inertia about the pivot | J | 0.119750 | 0.000061 | 0.00012 | kg*m^2 |"), "{md}");
-    assert!(md.contains("viscous explains the decay (synthetic)"));
+    assert!(md.contains("viscous explains the decay (RMS residual"), "{md}");
 }
 
 #[test]
@@ -514,10 +517,8 @@ fn parse_err(text: &str) -> article::ArticleError {
 #[test]
 fn article_errors_name_file_line_and_key() {
     let ok = article::parse("art.toml", MINIMAL, Path::new("base")).expect("minimal");
-    assert_eq!(
-        ok.damping,
-        DampingChoice::Terms(DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]))
-    );
+    // No damping key: the comparison chooses (issue 10).
+    assert_eq!(ok.damping, DampingChoice::Auto);
     assert!(matches!(ok.physical.gravity.source, GravitySource::Standard));
     assert_eq!(ok.runs[0].log, Path::new("base").join("a.csv"));
 
