@@ -14,7 +14,7 @@
 pub mod dopri;
 mod rk4;
 
-use crate::model::{DampingSet, Physics, Release, Term};
+use crate::model::{DampingSet, N_TERMS, Physics, Release, Term};
 
 /// Which scheme to use, with its accuracy setting.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -154,7 +154,8 @@ pub fn simulate_with_sensitivities(
         0 => rk4::run::<4>(physics, release, times, terms, max_step)?,
         1 => rk4::run::<5>(physics, release, times, terms, max_step)?,
         2 => rk4::run::<6>(physics, release, times, terms, max_step)?,
-        _ => rk4::run::<7>(physics, release, times, terms, max_step)?,
+        3 => rk4::run::<7>(physics, release, times, terms, max_step)?,
+        _ => rk4::run::<8>(physics, release, times, terms, max_step)?,
     };
     Ok((traj, Sensitivities { n_params: 1 + terms.len() + crate::model::RELEASE_PARAMS, d_angle }))
 }
@@ -206,13 +207,19 @@ pub fn for_each_sensitivity(
         0 => go!(4),
         1 => go!(5),
         2 => go!(6),
-        _ => go!(7),
+        3 => go!(7),
+        _ => go!(8),
     }
 }
 
 /// Check physics, release and times once, before any integration.
 fn check_inputs(physics: &Physics, release: &Release, times: &[f64]) -> Result<(), IntegrateError> {
     physics.validate().map_err(IntegrateError::InvalidParams)?;
+    if physics.coef(Term::Presliding) > 0.0 && physics.coef(Term::Coulomb) <= 0.0 {
+        return Err(IntegrateError::InvalidParams(
+            "presliding stiffness needs a coulomb level > 0".into(),
+        ));
+    }
     for (name, v) in [
         ("equilibrium", release.equilibrium),
         ("initial_angle", release.angle),
@@ -257,7 +264,21 @@ pub(crate) fn decide(physics: &Physics, equilibrium: f64, theta: f64) -> Mode {
 }
 
 /// The mode at the release: the direction of ω0, or the stick–slip rule when ω0 = 0.
-pub(crate) fn initial_mode(physics: &Physics, release: &Release) -> Mode {
+///
+/// With pre-sliding friction, `rhs.anchor` is set here too: moving, the friction starts
+/// saturated at b0·sgn ω0 (anchor θ0 − dir·b0/σ); from rest it starts relaxed (anchor θ0,
+/// F = 0), and the article moves the way gravity pulls unless it hangs exactly at equilibrium.
+pub(crate) fn initial_mode(physics: &Physics, release: &Release, rhs: &mut Rhs) -> Mode {
+    if rhs.sigma > 0.0 {
+        if release.velocity != 0.0 {
+            let dir = release.velocity.signum();
+            rhs.anchor = release.angle - dir * rhs.fc / rhs.sigma;
+            return Mode::Moving(dir);
+        }
+        rhs.anchor = release.angle;
+        let a = rhs.accel(release.angle, 0.0, 1.0);
+        return if a == 0.0 { Mode::Stuck } else { Mode::Moving(a.signum()) };
+    }
     if release.velocity != 0.0 {
         Mode::Moving(release.velocity.signum())
     } else {
@@ -265,9 +286,25 @@ pub(crate) fn initial_mode(physics: &Physics, release: &Release) -> Mode {
     }
 }
 
+/// The rule at a velocity zero at angle `theta` reached moving in direction `dir`, with
+/// pre-sliding friction (σ > 0): the friction force is continuous (the spring holds it), so
+/// there is no dead band and no stick test. If the slider was sliding (saturated) the spring
+/// is re-anchored so that it holds the same force, dir·b0; the motion then reverses the way the
+/// acceleration points, or rests if the acceleration is exactly zero. Returns the new mode and
+/// whether the anchor moved.
+pub(crate) fn reverse_presliding(rhs: &mut Rhs, theta: f64, dir: f64) -> (Mode, bool) {
+    let (_, sat) = rhs.friction(theta, dir);
+    if sat {
+        rhs.anchor = theta - dir * rhs.fc / rhs.sigma;
+    }
+    let a = rhs.accel(theta, 0.0, dir);
+    let mode = if a == 0.0 { Mode::Stuck } else { Mode::Moving(a.signum()) };
+    (mode, sat)
+}
+
 /// Terms of `terms` in canonical order, padded; the first `terms.len()` entries are meaningful.
-pub(crate) fn term_list(terms: DampingSet) -> [Term; 3] {
-    let mut out = [Term::Viscous; 3];
+pub(crate) fn term_list(terms: DampingSet) -> [Term; N_TERMS] {
+    let mut out = [Term::Viscous; N_TERMS];
     for (slot, t) in out.iter_mut().zip(terms.iter()) {
         *slot = t;
     }
@@ -345,23 +382,54 @@ pub(crate) fn locate_zero(mut g: impl FnMut(f64) -> f64, h: f64, g0: f64, gh: f6
 }
 
 /// The right-hand side shared by both schemes: θ'' as a function of (θ, ω, dir), and for the
-/// sensitivity equations its partial derivatives. Built once per integration.
+/// sensitivity equations its partial derivatives. Built once per integration; with pre-sliding
+/// friction it also holds the friction state (the spring's anchor), which changes only at the
+/// release and at velocity reversals.
 #[derive(Clone, Copy, Debug)]
 pub(crate) struct Rhs {
     pub(crate) omega_n: f64,
     pub(crate) wn2: f64,
     pub(crate) equilibrium: f64,
-    pub(crate) damping: [f64; 3],
+    /// Coefficients of the terms whose force depends on ω and dir only; the Coulomb entry is
+    /// zero when the spring–slider carries the Coulomb level instead.
+    pub(crate) damping: [f64; N_TERMS],
+    /// Pre-sliding stiffness σ [1/s²]; 0 = plain Coulomb slider.
+    pub(crate) sigma: f64,
+    /// Coulomb level b0 of the spring–slider (when σ > 0).
+    pub(crate) fc: f64,
+    /// Anchor θs of the spring–slider: the friction is σ·(θ − θs) until it saturates at b0.
+    pub(crate) anchor: f64,
 }
 
 impl Rhs {
     pub(crate) fn new(physics: &Physics, equilibrium: f64) -> Rhs {
+        let mut damping = physics.damping;
+        let (sigma, fc) = match physics.presliding() {
+            Some(s) => {
+                damping[Term::Coulomb.index()] = 0.0;
+                (s, physics.coef(Term::Coulomb))
+            }
+            None => (0.0, 0.0),
+        };
+        damping[Term::Presliding.index()] = 0.0;
         Rhs {
             omega_n: physics.omega_n,
             wn2: physics.omega_n * physics.omega_n,
             equilibrium,
-            damping: physics.damping,
+            damping,
+            sigma,
+            fc,
+            anchor: 0.0,
         }
+    }
+
+    /// Spring–slider friction per unit inertia at angle θ moving in direction `dir`
+    /// (elastoplastic form, docs/friction.md): F = σ(θ − θs) while dir·σ(θ − θs) < b0, else
+    /// dir·b0 (sliding). Returns F and whether it is saturated.
+    #[inline(always)]
+    pub(crate) fn friction(&self, theta: f64, dir: f64) -> (f64, bool) {
+        let u = self.sigma * (theta - self.anchor);
+        if dir * u >= self.fc { (dir * self.fc, true) } else { (u, false) }
     }
 
     /// Total damping deceleration Σ accel of the terms with a non-zero coefficient.
@@ -392,13 +460,14 @@ impl Rhs {
 
     /// θ'' from the sine of the angle off equilibrium (so callers can share one `sin_cos`).
     #[inline(always)]
-    pub(crate) fn accel_from_sin(&self, sin: f64, omega: f64, dir: f64) -> f64 {
-        -self.wn2 * sin - self.damping_accel(omega, dir)
+    pub(crate) fn accel_from_sin(&self, theta: f64, sin: f64, omega: f64, dir: f64) -> f64 {
+        let a = -self.wn2 * sin - self.damping_accel(omega, dir);
+        if self.sigma > 0.0 { a - self.friction(theta, dir).0 } else { a }
     }
 
     /// θ'' at (θ, ω) moving in direction `dir`.
     #[inline(always)]
     pub(crate) fn accel(&self, theta: f64, omega: f64, dir: f64) -> f64 {
-        self.accel_from_sin((theta - self.equilibrium).sin(), omega, dir)
+        self.accel_from_sin(theta, (theta - self.equilibrium).sin(), omega, dir)
     }
 }

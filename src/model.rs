@@ -7,7 +7,8 @@
 //!
 //! Free decay can only identify the coefficients *per unit inertia*, so the model works in that
 //! view ([`Physics`]): ωn² = m g d / J, viscous b1 = c/J [1/s], Coulomb b0 = τc/J [rad/s²],
-//! quadratic b2 = cq/J [1/rad]. The physical view (J, c, τc, cq) needs m, d and g and lives in
+//! quadratic b2 = cq/J [1/rad], and the pre-sliding stiffness σ = k/J [1/s²] of the Coulomb
+//! friction (docs/friction.md). The physical view (J, c, τc, cq) needs m, d and g and lives in
 //! [`crate::physical`]; the one conversion between the two views is there.
 //!
 //! Each damping mechanism is a [`Term`]. A model is a [`DampingSet`] of terms; everything a term
@@ -25,11 +26,22 @@ pub enum Term {
     Coulomb,
     /// Quadratic (velocity squared, aerodynamic): b2·ω|ω|.
     Quadratic,
+    /// Pre-sliding stiffness σ of the Coulomb friction (elastoplastic spring–slider, Dahl's
+    /// i = 0 limit): the Coulomb force builds up as σ·(angle moved since the slider last
+    /// stopped) until it reaches b0. Only meaningful together with [`Term::Coulomb`]; it
+    /// replaces the Coulomb term's b0·dir by that state-dependent force (see docs/friction.md).
+    /// Its [`Term::accel`] is zero: the force needs the angle and the friction state, so the
+    /// integrators evaluate it (see `integrate::Rhs`).
+    Presliding,
 }
+
+/// Number of damping terms (length of [`Term::ALL`] and of [`Physics::damping`]).
+pub const N_TERMS: usize = 4;
 
 impl Term {
     /// Every term, in the canonical order used for parameter vectors and reports.
-    pub const ALL: [Term; 3] = [Term::Viscous, Term::Coulomb, Term::Quadratic];
+    pub const ALL: [Term; N_TERMS] =
+        [Term::Viscous, Term::Coulomb, Term::Quadratic, Term::Presliding];
 
     /// Index of the term in [`Term::ALL`].
     pub fn index(self) -> usize {
@@ -37,6 +49,7 @@ impl Term {
             Term::Viscous => 0,
             Term::Coulomb => 1,
             Term::Quadratic => 2,
+            Term::Presliding => 3,
         }
     }
 
@@ -46,6 +59,7 @@ impl Term {
             Term::Viscous => "viscous",
             Term::Coulomb => "coulomb",
             Term::Quadratic => "quadratic",
+            Term::Presliding => "presliding",
         }
     }
 
@@ -55,6 +69,7 @@ impl Term {
             "viscous" | "v" => Some(Term::Viscous),
             "coulomb" | "dry" | "c" => Some(Term::Coulomb),
             "quadratic" | "q" => Some(Term::Quadratic),
+            "presliding" | "pre-sliding" | "elastoplastic" | "p" => Some(Term::Presliding),
             _ => None,
         }
     }
@@ -65,6 +80,7 @@ impl Term {
             Term::Viscous => "1/s",
             Term::Coulomb => "rad/s^2",
             Term::Quadratic => "1/rad",
+            Term::Presliding => "1/s^2",
         }
     }
 
@@ -74,6 +90,7 @@ impl Term {
             Term::Viscous => "N*m*s/rad",
             Term::Coulomb => "N*m",
             Term::Quadratic => "N*m*s^2/rad^2",
+            Term::Presliding => "N*m/rad",
         }
     }
 
@@ -83,6 +100,7 @@ impl Term {
             Term::Viscous => "b1",
             Term::Coulomb => "b0",
             Term::Quadratic => "b2",
+            Term::Presliding => "sigma",
         }
     }
 
@@ -96,6 +114,7 @@ impl Term {
             Term::Viscous => coef * omega,
             Term::Coulomb => coef * dir,
             Term::Quadratic => coef * omega * omega.abs(),
+            Term::Presliding => 0.0,
         }
     }
 
@@ -106,6 +125,7 @@ impl Term {
             Term::Viscous => coef,
             Term::Coulomb => 0.0,
             Term::Quadratic => 2.0 * coef * omega.abs(),
+            Term::Presliding => 0.0,
         }
     }
 
@@ -116,6 +136,7 @@ impl Term {
             Term::Viscous => omega,
             Term::Coulomb => dir,
             Term::Quadratic => omega * omega.abs(),
+            Term::Presliding => 0.0,
         }
     }
 }
@@ -133,7 +154,7 @@ pub struct DampingSet(u8);
 impl DampingSet {
     /// The set with no terms (undamped pendulum).
     pub const EMPTY: DampingSet = DampingSet(0);
-    /// All three terms.
+    /// The three rate-dependent terms (viscous, Coulomb, quadratic), without pre-sliding.
     pub const FULL: DampingSet = DampingSet(0b111);
 
     /// Build from a list of terms.
@@ -149,7 +170,7 @@ impl DampingSet {
                 Some(t) => set = set.with(t),
                 None => {
                     return Err(format!(
-                        "unknown damping term \"{}\"; expected viscous, coulomb or quadratic",
+                        "unknown damping term \"{}\"; expected viscous, coulomb, quadratic or presliding",
                         part.trim()
                     ));
                 }
@@ -159,6 +180,11 @@ impl DampingSet {
             return Err(
                 "empty damping set; expected one or more of viscous, coulomb, quadratic".into()
             );
+        }
+        if set.contains(Term::Presliding) && !set.contains(Term::Coulomb) {
+            return Err("presliding is the stiffness of the Coulomb friction; \
+                        it needs coulomb in the same set"
+                .into());
         }
         Ok(set)
     }
@@ -198,11 +224,31 @@ impl DampingSet {
         Term::ALL.into_iter().filter(move |t| self.contains(*t))
     }
 
-    /// The seven non-empty subsets of the three terms, smallest first.
+    /// The seven non-empty subsets of the three rate-dependent terms, smallest first.
     pub fn all_nonempty() -> Vec<DampingSet> {
         let mut v: Vec<DampingSet> = (1u8..8).map(DampingSet).collect();
         v.sort_by_key(|s| (s.len(), s.0));
         v
+    }
+
+    /// Every valid model: the seven subsets of [`DampingSet::all_nonempty`] and, for each of
+    /// them that holds Coulomb friction, the same set with its pre-sliding stiffness (eleven
+    /// sets), smallest first. A pre-sliding term without Coulomb friction is no model.
+    pub fn all_with_presliding() -> Vec<DampingSet> {
+        let mut v = DampingSet::all_nonempty();
+        let extra: Vec<DampingSet> = v
+            .iter()
+            .filter(|s| s.contains(Term::Coulomb))
+            .map(|s| s.with(Term::Presliding))
+            .collect();
+        v.extend(extra);
+        v.sort_by_key(|s| (s.len(), s.0));
+        v
+    }
+
+    /// Whether the set is a model the integrators accept (pre-sliding only with Coulomb).
+    pub fn is_valid(self) -> bool {
+        !self.contains(Term::Presliding) || self.contains(Term::Coulomb)
     }
 
     /// Names in canonical order, e.g. `["viscous", "coulomb"]`.
@@ -225,8 +271,9 @@ impl fmt::Display for DampingSet {
 pub struct Physics {
     /// Small-amplitude natural frequency ωn = √(m g d / J) [rad/s].
     pub omega_n: f64,
-    /// Damping coefficients indexed by [`Term::index`]: b1 [1/s], b0 [rad/s²], b2 [1/rad].
-    pub damping: [f64; 3],
+    /// Damping coefficients indexed by [`Term::index`]: b1 [1/s], b0 [rad/s²], b2 [1/rad],
+    /// pre-sliding stiffness σ [1/s²] (0 = none: the plain Coulomb slider).
+    pub damping: [f64; N_TERMS],
     /// Static (breakaway) Coulomb level per unit inertia [rad/s²], ≥ the kinetic b0. `None`
     /// means equal to the kinetic level.
     pub breakaway: Option<f64>,
@@ -235,7 +282,7 @@ pub struct Physics {
 impl Physics {
     /// Undamped pendulum with natural frequency `omega_n`.
     pub fn undamped(omega_n: f64) -> Physics {
-        Physics { omega_n, damping: [0.0; 3], breakaway: None }
+        Physics { omega_n, damping: [0.0; N_TERMS], breakaway: None }
     }
 
     /// Coefficient of `t`.
@@ -256,13 +303,20 @@ impl Physics {
         )
     }
 
+    /// Pre-sliding stiffness σ when it acts (σ > 0 with Coulomb friction b0 > 0), else `None`.
+    pub fn presliding(&self) -> Option<f64> {
+        let (s, b0) = (self.coef(Term::Presliding), self.coef(Term::Coulomb));
+        (s > 0.0 && b0 > 0.0).then_some(s)
+    }
+
     /// Static friction level per unit inertia used by the stick test.
     pub fn static_level(&self) -> f64 {
         self.breakaway.unwrap_or(0.0).max(self.coef(Term::Coulomb))
     }
 
     /// Angular acceleration θ'' for angle `theta`, velocity `omega`, direction `dir` (±1)
-    /// and equilibrium `equilibrium`.
+    /// and equilibrium `equilibrium`, with the plain Coulomb slider (the pre-sliding force
+    /// needs the friction state and is evaluated by the integrators).
     #[inline]
     pub fn accel(&self, theta: f64, omega: f64, dir: f64, equilibrium: f64) -> f64 {
         let mut a = -self.omega_n * self.omega_n * (theta - equilibrium).sin();
@@ -285,6 +339,13 @@ impl Physics {
             if !(c.is_finite() && c >= 0.0) {
                 return Err(format!("{} must be a finite number >= 0, found {}", t.name(), c));
             }
+        }
+        if self.presliding().is_some()
+            && self.breakaway.is_some_and(|b| b > self.coef(Term::Coulomb))
+        {
+            return Err("breakaway above the Coulomb level cannot be combined with presliding \
+                        (the spring-slider has one friction level)"
+                .into());
         }
         if let Some(b) = self.breakaway
             && !(b.is_finite() && b >= self.coef(Term::Coulomb))

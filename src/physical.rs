@@ -233,7 +233,7 @@ pub struct FittedDynamics {
     /// Damping terms that were fitted.
     pub terms: DampingSet,
     /// Coefficients in [`Term::ALL`] order (b1 1/s, b0 rad/s², b2 1/rad); unfitted ones ignored.
-    pub damping: [f64; 3],
+    pub damping: [f64; crate::model::N_TERMS],
     /// Covariance of (ωn, fitted terms in [`Term::ALL`] order), size 1 + terms.len().
     pub cov: DMatrix<f64>,
 }
@@ -248,13 +248,14 @@ pub mod input {
     pub const GRAVITY: usize = 2;
     /// Natural frequency ωn.
     pub const OMEGA_N: usize = 3;
-    /// First damping coefficient (viscous b1); Coulomb b0 and quadratic b2 follow.
+    /// First damping coefficient (viscous b1); Coulomb b0, quadratic b2 and the pre-sliding
+    /// stiffness σ follow.
     pub const DAMPING: usize = 4;
     /// Length of z.
-    pub const LEN: usize = 7;
+    pub const LEN: usize = DAMPING + crate::model::N_TERMS;
 }
 
-/// A point z = (m, d, g, ωn, b1, b0, b2) at which coefficients are evaluated.
+/// A point z = (m, d, g, ωn, b1, b0, b2, σ) at which coefficients are evaluated.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Point(pub [f64; input::LEN]);
 
@@ -432,8 +433,8 @@ pub struct PhysicalCoefficients {
     pub gyration_cg: Option<Quantity>,
     /// Equivalent simple-pendulum length.
     pub equivalent_length: Quantity,
-    /// c, τc, cq in [`Term::ALL`] order; absent terms absent.
-    pub damping: [Option<Quantity>; 3],
+    /// c, τc, cq, k (pre-sliding stiffness σ·J) in [`Term::ALL`] order; absent terms absent.
+    pub damping: [Option<Quantity>; crate::model::N_TERMS],
     /// Small-amplitude period.
     pub period: Quantity,
     /// Viscous damping ratio ζ (with a viscous term).
@@ -532,15 +533,13 @@ pub fn physical_coefficients(
 ) -> Result<PhysicalCoefficients, PhysicalError> {
     check_inputs(inputs, fit)?;
     let sigma = input_covariance(inputs, fit)?;
-    let mut z = [
+    let mut z = [0.0; input::LEN];
+    z[..=input::OMEGA_N].copy_from_slice(&[
         inputs.mass.value,
         inputs.pivot_to_cg.value,
         inputs.gravity.value,
         fit.omega_n,
-        0.0,
-        0.0,
-        0.0,
-    ];
+    ]);
     for t in fit.terms.iter() {
         z[input::DAMPING + t.index()] = fit.damping[t.index()];
     }

@@ -86,7 +86,9 @@ impl Layout {
         v
     }
 
-    /// Lower and upper bounds: ωn > 0, damping ≥ 0, release free.
+    /// Lower and upper bounds: ωn > 0, damping ≥ 0, release free. The pre-sliding stiffness
+    /// stays > 0: σ = 0 would mean the plain Coulomb slider (the σ → ∞ limit), not its σ → 0+
+    /// limit (no friction), so the bound keeps the model continuous.
     pub fn bounds(&self) -> (DVector<f64>, DVector<f64>) {
         let n = self.n_params();
         let mut lo = DVector::from_element(n, f64::NEG_INFINITY);
@@ -94,6 +96,9 @@ impl Layout {
         lo[0] = 1e-9;
         for i in 1..self.n_physics() {
             lo[i] = 0.0;
+        }
+        if let Some(k) = self.term_index(Term::Presliding) {
+            lo[k] = 1e-9;
         }
         (lo, hi)
     }

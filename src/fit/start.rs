@@ -12,7 +12,7 @@
 
 use crate::data::AngleLog;
 use crate::data::survey::{Peak, Survey};
-use crate::model::{DampingSet, Physics, Release, Term};
+use crate::model::{DampingSet, N_TERMS, Physics, Release, Term};
 
 pub use crate::model::{ellip_k, period_ratio};
 
@@ -75,7 +75,7 @@ fn quad_fit_at_start(t: &[f64], y: &[f64]) -> Option<(f64, f64)> {
 /// Damping coefficients (indexed by [`Term::index`]) for the terms of `set`, from the peak
 /// envelopes of all runs, given the natural frequency. Non-negative; terms the envelope cannot
 /// see get a small positive value so that the optimiser starts inside the bounds.
-pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
+pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; N_TERMS] {
     // Rows: −dA/dt ≈ Σ_j x_j·basis_j(A) at the midpoint of successive half-cycle peaks.
     let mut rows: Vec<([f64; 3], f64)> = Vec::new();
     for run in peaks {
@@ -94,7 +94,9 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
             rows.push((basis, (a0 - a1) / dt));
         }
     }
-    let terms: Vec<Term> = set.iter().collect();
+    // The pre-sliding stiffness has no first-order envelope basis (its spring stores, not
+    // dissipates); it is started below from the Coulomb level and the smallest swing.
+    let terms: Vec<Term> = set.without(Term::Presliding).iter().collect();
     let mut best: Option<(f64, [f64; 3])> = None;
     // Non-negative least squares by enumerating the active subsets (at most 7).
     for mask in 1u32..(1 << terms.len()) {
@@ -135,7 +137,9 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
             best = Some((rss, coef));
         }
     }
-    let mut coef = best.map(|(_, c)| c).unwrap_or([0.0; 3]);
+    let best = best.map(|(_, c)| c).unwrap_or([0.0; 3]);
+    let mut coef = [0.0; N_TERMS];
+    coef[..3].copy_from_slice(&best);
     // A term left at zero starts at a small share of a typical decay so the optimiser can move it.
     let typical = typical_decay(&rows);
     for t in set.iter() {
@@ -144,9 +148,22 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; 3] {
                 Term::Viscous => 0.05 * typical.0,
                 Term::Coulomb => 0.05 * typical.1 * omega_n,
                 Term::Quadratic => 0.05 * typical.0 / (omega_n * typical.2.max(1e-3)),
+                Term::Presliding => 0.0,
             }
             .max(1e-9);
         }
+    }
+    if set.contains(Term::Presliding) {
+        // Start with the spring's range b0/σ at a quarter of the smallest swing recorded, where
+        // the period is most sensitive to σ (docs/friction.md).
+        let a_min = peaks
+            .iter()
+            .flat_map(|r| r.iter().map(|p| p.deflection.abs()))
+            .filter(|a| *a > 0.0)
+            .fold(f64::INFINITY, f64::min);
+        let a_min = if a_min.is_finite() { a_min } else { 1e-2 };
+        coef[Term::Presliding.index()] =
+            (coef[Term::Coulomb.index()] / (0.25 * a_min)).max(1e-3 * omega_n * omega_n);
     }
     coef
 }

@@ -8,7 +8,10 @@
 //! A velocity zero inside an accepted step is found as a root of the dense ω(t); the step is then
 //! redone up to that instant so the event state carries the full 5th-order accuracy.
 
-use super::{Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero};
+use super::{
+    Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero,
+    reverse_presliding,
+};
 use crate::model::{Physics, Release};
 
 // The nodes c2…c5 = 1/5, 3/10, 4/5, 8/9 are not needed: the pendulum is autonomous.
@@ -159,9 +162,9 @@ pub(crate) fn run(
     if n == 0 {
         return Ok(traj);
     }
-    let rhs = Rhs::new(physics, release.equilibrium);
+    let mut rhs = Rhs::new(physics, release.equilibrium);
     let mut y: Y = [release.angle, release.velocity];
-    let mut mode = initial_mode(physics, release);
+    let mut mode = initial_mode(physics, release, &mut rhs);
     let mut t = times[0];
     if mode == Mode::Stuck {
         y[1] = 0.0;
@@ -245,8 +248,13 @@ pub(crate) fn run(
             emit(&mut traj, times, &mut j, t, s, tau, &re.dense, &re.y1);
             (tau, re.y1)
         };
-        let next =
-            if s <= 0.0 { Mode::Stuck } else { decide(physics, release.equilibrium, y_ev[0]) };
+        let next = if s <= 0.0 {
+            Mode::Stuck
+        } else if rhs.sigma > 0.0 {
+            reverse_presliding(&mut rhs, y_ev[0], dir).0
+        } else {
+            decide(physics, release.equilibrium, y_ev[0])
+        };
         y = [y_ev[0], 0.0];
         match next {
             Mode::Stuck => traj.events.push(Event::Stick { t: tau, angle: y[0] }),
@@ -300,8 +308,9 @@ pub fn fixed_steps(physics: &Physics, release: &Release, t_end: f64, n: usize) -
     if n == 0 || physics.validate().is_err() || !t_end.is_finite() {
         return None;
     }
-    let rhs = Rhs::new(physics, release.equilibrium);
+    let mut rhs = Rhs::new(physics, release.equilibrium);
     let dir = if release.velocity < 0.0 { -1.0 } else { 1.0 };
+    rhs.anchor = release.angle - dir * rhs.fc / rhs.sigma.max(f64::MIN_POSITIVE);
     let h = t_end / n as f64;
     let mut y: Y = [release.angle, release.velocity];
     for _ in 0..n {

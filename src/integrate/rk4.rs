@@ -8,9 +8,10 @@
 //! from the sub-step start with a trial length found by [`super::locate_zero`].
 
 use super::{
-    Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero, term_list,
+    Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero,
+    reverse_presliding, term_list,
 };
-use crate::model::{DampingSet, Physics, Release, Term};
+use crate::model::{DampingSet, N_TERMS, Physics, Release, Term};
 
 /// State plus its two sensitivity rows (∂θ/∂p and ∂ω/∂p).
 #[derive(Clone, Copy, Debug)]
@@ -35,25 +36,49 @@ impl<const NP: usize> X<NP> {
     }
 }
 
-/// Right-hand side with the layout of the sensitivity columns.
+/// Right-hand side with the layout of the sensitivity columns, and with pre-sliding friction
+/// the sensitivities ∂θs/∂p of the spring's anchor (which changes only at events).
 #[derive(Clone, Copy, Debug)]
-struct Field {
+struct Field<const NP: usize> {
     rhs: Rhs,
-    terms: [Term; 3],
+    terms: [Term; N_TERMS],
     n_terms: usize,
+    /// ∂θs/∂p of the spring–slider anchor (pre-sliding only).
+    d_anchor: [f64; NP],
+    /// Column of σ and of b0 among the parameters, when fitted.
+    col_sigma: Option<usize>,
+    col_b0: Option<usize>,
 }
 
-impl Field {
+impl<const NP: usize> Field<NP> {
+    /// Re-anchor after the spring–slider saturated moving in `dir`: θs = θ(τ) − dir·b0/σ, so
+    /// ∂θs/∂p = ∂θ(τ)/∂p − dir·∂(b0/σ)/∂p (ω(τ) = 0, so ∂θ(τ)/∂p = S_θ).
+    fn reanchor_sensitivity(&mut self, s_theta: &[f64; NP], dir: f64) {
+        let (sig, fc) = (self.rhs.sigma, self.rhs.fc);
+        self.d_anchor = *s_theta;
+        if let Some(k) = self.col_b0 {
+            self.d_anchor[k] -= dir / sig;
+        }
+        if let Some(k) = self.col_sigma {
+            self.d_anchor[k] += dir * fc / (sig * sig);
+        }
+    }
+
     /// d/dt of state and sensitivities: x' = f(x), S' = f_x S + f_p, given s = sin(θ − θeq) and
     /// c = cos(θ − θeq) at the state.
     #[inline(always)]
     fn deriv<const M: usize>(&self, x: &X<M>, dir: f64, s: f64, c: f64) -> X<M> {
         let r = &self.rhs;
-        let a = r.accel_from_sin(s, x.om, dir);
+        let a = r.accel_from_sin(x.th, s, x.om, dir);
         if M == 0 {
             return X { th: x.om, om: a, st: x.so, so: [0.0; M] };
         }
-        let a_th = -r.wn2 * c;
+        let mut a_th = -r.wn2 * c;
+        // In the spring (pre-sliding) range F = σ(θ − θs): ∂F/∂θ = σ, ∂F/∂θs = −σ.
+        let elastic = r.sigma > 0.0 && !r.friction(x.th, dir).1;
+        if elastic {
+            a_th -= r.sigma;
+        }
         let a_om = -r.damping_domega(x.om);
         let mut so = [0.0; M];
         for ((d, st), sw) in so.iter_mut().zip(&x.st).zip(&x.so) {
@@ -65,6 +90,18 @@ impl Field {
             so[1 + k] -= self.terms[k].daccel_dcoef(x.om, dir);
         }
         so[1 + self.n_terms] += r.wn2 * c;
+        if elastic {
+            for (d, da) in so.iter_mut().zip(&self.d_anchor) {
+                *d += r.sigma * da;
+            }
+            // The Coulomb column got −dir above; in the spring range F does not depend on b0.
+            if let Some(k) = self.col_b0 {
+                so[k] += dir;
+            }
+            if let Some(k) = self.col_sigma {
+                so[k] -= x.th - r.anchor;
+            }
+        }
         X { th: x.om, om: a, st: x.so, so }
     }
 
@@ -227,10 +264,14 @@ pub(crate) fn run_into<const NP: usize>(
     if n == 0 {
         return Ok(events);
     }
-    let field = Field {
+    let col = |t: Term| terms.iter().position(|u| u == t).map(|i| 1 + i).filter(|_| NP > 0);
+    let mut field = Field::<NP> {
         rhs: Rhs::new(physics, release.equilibrium),
         terms: term_list(terms),
         n_terms: terms.len(),
+        d_anchor: [0.0; NP],
+        col_sigma: col(Term::Presliding),
+        col_b0: col(Term::Coulomb),
     };
     let mut x = X::<NP> { th: release.angle, om: release.velocity, st: [0.0; NP], so: [0.0; NP] };
     if NP > 0 {
@@ -238,7 +279,15 @@ pub(crate) fn run_into<const NP: usize>(
         x.st[NP - 2] = 1.0;
         x.so[NP - 1] = 1.0;
     }
-    let mut mode = initial_mode(physics, release);
+    let mut mode = initial_mode(physics, release, &mut field.rhs);
+    if NP > 0 && field.rhs.sigma > 0.0 {
+        // θs = θ0 − dir·b0/σ when released moving (saturated), θ0 when released at rest.
+        if release.velocity != 0.0 {
+            field.reanchor_sensitivity(&x.st, release.velocity.signum());
+        } else {
+            field.d_anchor = x.st;
+        }
+    }
     if mode == Mode::Stuck {
         x.om = 0.0;
         x.so = [0.0; NP];
@@ -272,7 +321,7 @@ pub(crate) fn run_into<const NP: usize>(
         let (t_end, last) = if times[i] <= reach { (t_end, last) } else { (t_end, i - 1) };
         let mut pending = i; // samples i..=last lie in (t, t_end]
         advance(
-            &field,
+            &mut field,
             physics,
             &mut x,
             &mut mode,
@@ -311,7 +360,7 @@ pub(crate) fn run_into<const NP: usize>(
 #[allow(clippy::too_many_arguments)]
 #[inline]
 fn advance<const NP: usize>(
-    field: &Field,
+    field: &mut Field<NP>,
     physics: &Physics,
     x: &mut X<NP>,
     mode: &mut Mode,
@@ -354,7 +403,15 @@ fn advance<const NP: usize>(
         y.om = 0.0;
         let fb = field.start(&y, dir).f;
         piece(&Piece { ta: t, xa: *x, fa, tb: tau, xb: y, fb });
-        let next = decide(physics, field.rhs.equilibrium, y.th);
+        let next = if field.rhs.sigma > 0.0 {
+            let (m, moved) = reverse_presliding(&mut field.rhs, y.th, dir);
+            if moved && NP > 0 {
+                field.reanchor_sensitivity(&y.st, dir);
+            }
+            m
+        } else {
+            decide(physics, field.rhs.equilibrium, y.th)
+        };
         match next {
             Mode::Stuck => {
                 // θ(t) = θ(τ) for all later t: S_θ frozen at S_θ(τ−), S_ω = 0.

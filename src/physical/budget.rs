@@ -114,7 +114,7 @@ pub fn input_name(i: usize) -> (&'static str, &'static str, &'static str) {
         input::GRAVITY => ("gravity", "g", "m/s^2"),
         input::OMEGA_N => ("omega_n", "omega_n", "rad/s"),
         _ => {
-            let t = Term::ALL[(i - input::DAMPING).min(2)];
+            let t = Term::ALL[(i - input::DAMPING).min(Term::ALL.len() - 1)];
             (t.name(), t.symbol(), t.normalized_unit())
         }
     }

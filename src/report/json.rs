@@ -95,6 +95,9 @@ pub struct Normalized {
     /// b2.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub quadratic: Option<P>,
+    /// Pre-sliding stiffness σ of the Coulomb friction [1/s²].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub presliding: Option<P>,
 }
 
 /// Physical block.
@@ -131,6 +134,9 @@ pub struct Physical {
     /// cq.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub quadratic: Option<P>,
+    /// k = σ·J, pre-sliding stiffness of the pivot friction [N·m/rad].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub presliding: Option<P>,
 }
 
 /// Gravity used.
@@ -472,6 +478,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             viscous: term(Term::Viscous),
             coulomb: term(Term::Coulomb),
             quadratic: term(Term::Quadratic),
+            presliding: term(Term::Presliding),
         },
         physical: physical.map(|p| Physical {
             inertia_pivot: P::from(&p.inertia_pivot),
@@ -486,6 +493,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             viscous: p.damping[Term::Viscous.index()].as_ref().map(P::from),
             coulomb: p.damping[Term::Coulomb.index()].as_ref().map(P::from),
             quadratic: p.damping[Term::Quadratic.index()].as_ref().map(P::from),
+            presliding: p.damping[Term::Presliding.index()].as_ref().map(P::from),
         }),
         gravity: physical.map(|p| Gravity {
             value: p.gravity.value,

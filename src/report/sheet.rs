@@ -263,6 +263,7 @@ pub fn coefficient_rows(
             Term::Viscous => "viscous damping per unit inertia",
             Term::Coulomb => "Coulomb friction per unit inertia",
             Term::Quadratic => "quadratic damping per unit inertia",
+            Term::Presliding => "pre-sliding friction stiffness per unit inertia",
         };
         rows.push(row(
             "per_unit_inertia",

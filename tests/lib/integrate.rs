@@ -19,7 +19,7 @@ use swingfit::model::{DampingSet, Physics, Release, Term};
 const TIGHT: Method = Method::DormandPrince { rtol: 1e-12, atol: 1e-14 };
 
 fn physics(omega_n: f64, viscous: f64, coulomb: f64, quadratic: f64) -> Physics {
-    Physics { omega_n, damping: [viscous, coulomb, quadratic], breakaway: None }
+    Physics { omega_n, damping: [viscous, coulomb, quadratic, 0.0], breakaway: None }
 }
 
 fn release(angle: f64, velocity: f64) -> Release {
@@ -452,7 +452,7 @@ fn uneven_times(n: usize, seed: u64) -> Vec<f64> {
 
 #[test]
 fn schemes_agree_on_non_uniform_times() {
-    let p = Physics { omega_n: 5.0, damping: [0.05, 0.3, 0.02], breakaway: Some(0.4) };
+    let p = Physics { omega_n: 5.0, damping: [0.05, 0.3, 0.02, 0.0], breakaway: Some(0.4) };
     let r = Release { equilibrium: 0.02, angle: 2.0, velocity: -0.5 };
     let times = uneven_times(2000, 7);
     let a = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.002 }).unwrap();
@@ -645,7 +645,7 @@ fn rk4_steps_over_dense_samples_with_hermite_output() {
     // within 1e-8 rad of a tight Dormand–Prince solution; sensitivities are interpolated alike.
     use swingfit::integrate::{Method, simulate, simulate_with_sensitivities};
     use swingfit::model::{DampingSet, Physics, Release};
-    let physics = Physics { omega_n: 4.0, damping: [0.02, 0.01, 0.01], breakaway: None };
+    let physics = Physics { omega_n: 4.0, damping: [0.02, 0.01, 0.01, 0.0], breakaway: None };
     let release = Release { equilibrium: 0.01, angle: 0.8, velocity: 0.0 };
     let dense: Vec<f64> = (0..20_001).map(|i| i as f64 * 1e-3).collect();
     let coarse: Vec<f64> = dense.iter().step_by(5).copied().collect();
@@ -678,4 +678,47 @@ fn rk4_steps_over_dense_samples_with_hermite_output() {
         let an = s.d_angle[i * s.n_params];
         assert!((fd - an).abs() <= 1e-5 * (1.0 + fd.abs()), "sample {i}: {fd} vs {an}");
     }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Pre-sliding (elastoplastic spring–slider) friction; docs/friction.md.
+
+fn presliding(omega_n: f64, viscous: f64, coulomb: f64, sigma: f64) -> Physics {
+    Physics { omega_n, damping: [viscous, coulomb, 0.0, sigma], breakaway: None }
+}
+
+#[test]
+fn presliding_sensitivities_match_central_differences() {
+    // b0/σ = 0.015 rad: sliding swings first, then the last swings stay inside the spring range
+    // (an elastic oscillation at √(ωn² + σ) decaying by the viscous term).
+    let p = presliding(4.0, 0.05, 0.3, 20.0);
+    let r = Release { equilibrium: 0.01, angle: 0.3, velocity: 0.2 };
+    let terms = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb, Term::Presliding]);
+    let times = grid(10.0, 0.01);
+    let tr = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.002 }).unwrap();
+    assert!(reversals(&tr.events).len() >= 15, "keeps reversing in the spring range");
+    assert!(stick(&tr.events).is_none(), "no dead band with a spring–slider");
+    check_sensitivities(&p, &r, terms, 10.0, "viscous+coulomb+presliding");
+    check_sensitivities(&p, &r, terms.without(Term::Viscous), 10.0, "presliding, b1 not fitted");
+}
+
+#[test]
+fn presliding_rk4_agrees_with_dormand_prince() {
+    let p = presliding(4.0, 0.05, 0.3, 20.0);
+    let r = Release { equilibrium: 0.01, angle: 0.3, velocity: 0.2 };
+    let times = grid(10.0, 0.01);
+    let a = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.001 }).unwrap();
+    let b = simulate(&p, &r, &times, TIGHT).unwrap();
+    let worst = a.angle.iter().zip(&b.angle).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max);
+    assert!(worst < 1e-7, "RK4 vs DOPRI {worst}");
+    // In the spring range the oscillation frequency is √(ωn² + σ) (small-angle, lightly
+    // damped): measure it from the last reversals.
+    let rev = reversals(&b.events);
+    let last: Vec<f64> = rev.iter().rev().take(5).map(|e| e.0).collect();
+    let half = (last[0] - last[4]) / 4.0;
+    // ... and the swing there stays inside the spring's range 2·b0/σ peak to peak.
+    let (a1, a2) = (rev[rev.len() - 1].1, rev[rev.len() - 2].1);
+    assert!((a1 - a2).abs() < 2.0 * 0.3 / 20.0, "last swing {a1} .. {a2}");
+    let expect = std::f64::consts::PI / (16.0f64 + 20.0 - 0.05 * 0.05 / 4.0).sqrt();
+    assert!((half - expect).abs() < 1e-5 * expect, "half period {half} vs {expect}");
 }

@@ -123,7 +123,7 @@ fn physical() -> PhysicalCoefficients {
         gyration_pivot: q(0.2234, 6e-5, "m"),
         gyration_cg: Some(q(0.0606, 2e-4, "m")),
         equivalent_length: q(0.2321, 5e-5, "m"),
-        damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None],
+        damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None, None],
         period: q(0.9667, 1e-6, "s"),
         damping_ratio: None,
         log_decrement: None,

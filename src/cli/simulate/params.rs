@@ -20,11 +20,12 @@ use crate::model::{Physics, Release, Term};
 pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
 
 /// Keys of the plain params format.
-const PLAIN_KEYS: [&str; 8] = [
+const PLAIN_KEYS: [&str; 9] = [
     "omega_n",
     "viscous",
     "coulomb",
     "quadratic",
+    "presliding",
     "breakaway",
     "equilibrium",
     "initial_angle",
