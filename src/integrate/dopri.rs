@@ -1,12 +1,13 @@
-//! Adaptive Dormand–Prince 5(4) with its continuous extension (dense output), PI step-size
-//! control and true stick–slip.
+//! Adaptive Dormand–Prince 5(4) with its continuous extension (dense output), a PI step
+//! controller of our own ([`StepController`]) and true stick–slip.
 //!
-//! Coefficients, error norm, PI controller and the dense-output polynomial follow Hairer, Nørsett
-//! & Wanner, *Solving Ordinary Differential Equations I*, 2nd ed., §II.4–II.6 and their DOPRI5
-//! code `[memory]`. The solution is advanced with the 5th-order result (local extrapolation); the
-//! dense output is the 4th-order continuous extension, which passes through both step ends.
-//! A velocity zero inside an accepted step is found as a root of the dense ω(t); the step is then
-//! redone up to that instant so the event state carries the full 5th-order accuracy.
+//! The method (Butcher tableau, embedded 4th-order error weights and the 4th-order continuous
+//! extension) is the published Dormand–Prince 5(4) pair as given in Hairer, Nørsett & Wanner,
+//! *Solving Ordinary Differential Equations I*, 2nd ed., §II.4–II.6 `[memory]`. The solution is
+//! advanced with the 5th-order result (local extrapolation); the dense output passes through
+//! both step ends. A velocity zero inside an accepted step is found as a root of the dense ω(t);
+//! the step is then redone up to that instant so the event state carries the full 5th-order
+//! accuracy.
 
 use super::{
     Event, IntegrateError, Mode, Rhs, Trajectory, decide, initial_mode, locate_zero,
@@ -42,7 +43,7 @@ const E4: f64 = 71.0 / 1920.0;
 const E5: f64 = -17253.0 / 339200.0;
 const E6: f64 = 22.0 / 525.0;
 const E7: f64 = -1.0 / 40.0;
-// Dense output (Hairer's DOPRI5 continuous extension).
+// Weights of the 4th-order continuous extension (the quartic correction term).
 const D1: f64 = -12715105075.0 / 11282082432.0;
 const D3: f64 = 87487479700.0 / 32700410799.0;
 const D4: f64 = -10690763975.0 / 1880347072.0;
@@ -72,13 +73,40 @@ fn comb(y: &Y, h: f64, terms: &[(f64, &Y)]) -> Y {
     out
 }
 
+/// The 4th-order continuous extension of one step of length h from y0 to y1, written as
+/// y(s) = y0 + s·chord + s(1−s)·[start_gap + s·(end_gap − start_gap) + s(1−s)·quartic] for the
+/// fraction s ∈ [0, 1] of the step: without `quartic` it is the cubic Hermite interpolant
+/// matching both end slopes (`start_gap` = h·y0' − chord, `end_gap` = chord − h·y1'), and
+/// `quartic` is the Dormand–Prince correction that lifts it to 4th order.
+#[derive(Clone, Copy)]
+struct Continuation {
+    start: Y,
+    chord: Y,
+    start_gap: Y,
+    end_gap: Y,
+    quartic: Y,
+}
+
+impl Continuation {
+    /// State at fraction s ∈ [0, 1] of the step.
+    #[inline(always)]
+    fn at(&self, s: f64) -> Y {
+        let r = 1.0 - s;
+        std::array::from_fn(|i| {
+            let gap = self.start_gap[i]
+                + s * ((self.end_gap[i] - self.start_gap[i]) + r * self.quartic[i]);
+            self.start[i] + s * (self.chord[i] + r * gap)
+        })
+    }
+}
+
 /// One Dormand–Prince step from (y, k1 = f(y)) of length h: the 5th-order result, f at it
-/// (FSAL), the scaled error estimate and the dense-output coefficients.
+/// (first stage of the next step), the scaled error (see [`StepController`]) and the dense output.
 struct Step {
-    y1: Y,
-    k7: Y,
-    err: f64,
-    dense: [Y; 5],
+    end: Y,
+    end_slope: Y,
+    error: f64,
+    continuation: Continuation,
 }
 
 fn dp_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, h: f64, rtol: f64, atol: f64) -> Step {
@@ -87,56 +115,123 @@ fn dp_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, h: f64, rtol: f64, atol: f64) -> 
     let k4 = f(rhs, &comb(y, h, &[(A41, k1), (A42, &k2), (A43, &k3)]), dir);
     let k5 = f(rhs, &comb(y, h, &[(A51, k1), (A52, &k2), (A53, &k3), (A54, &k4)]), dir);
     let k6 = f(rhs, &comb(y, h, &[(A61, k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)]), dir);
-    let y1 = comb(y, h, &[(A71, k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)]);
-    let k7 = f(rhs, &y1, dir);
-    let mut sum = 0.0;
-    let mut dense = [[0.0; 2]; 5];
+    let end = comb(y, h, &[(A71, k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)]);
+    let k7 = f(rhs, &end, dir);
+    let mut squares = 0.0;
+    let zero = [0.0; 2];
+    let mut c =
+        Continuation { start: *y, chord: zero, start_gap: zero, end_gap: zero, quartic: zero };
     for i in 0..2 {
-        let e = h * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
-        let sk = atol + rtol * y[i].abs().max(y1[i].abs());
-        sum += (e / sk) * (e / sk);
-        let ydiff = y1[i] - y[i];
-        let bspl = h * k1[i] - ydiff;
-        dense[0][i] = y[i];
-        dense[1][i] = ydiff;
-        dense[2][i] = bspl;
-        dense[3][i] = ydiff - h * k7[i] - bspl;
-        dense[4][i] =
+        let local_error =
+            h * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
+        let scale = atol + rtol * y[i].abs().max(end[i].abs());
+        squares += (local_error / scale) * (local_error / scale);
+        c.chord[i] = end[i] - y[i];
+        c.start_gap[i] = h * k1[i] - c.chord[i];
+        c.end_gap[i] = c.chord[i] - h * k7[i];
+        c.quartic[i] =
             h * (D1 * k1[i] + D3 * k3[i] + D4 * k4[i] + D5 * k5[i] + D6 * k6[i] + D7 * k7[i]);
     }
-    Step { y1, k7, err: (0.5 * sum).sqrt(), dense }
+    Step { end, end_slope: k7, error: (0.5 * squares).sqrt(), continuation: c }
 }
 
-/// Dense output at fraction s ∈ [0, 1] of the step.
-#[inline(always)]
-fn dense_at(d: &[Y; 5], s: f64) -> Y {
-    let s1 = 1.0 - s;
-    let mut out = [0.0; 2];
-    for i in 0..2 {
-        out[i] = d[0][i] + s * (d[1][i] + s1 * (d[2][i] + s * (d[3][i] + s1 * d[4][i])));
-    }
-    out
-}
-
-/// Initial step (Hairer's heuristic, §II.4).
-fn initial_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, rtol: f64, atol: f64, span: f64) -> f64 {
-    let norm = |v: &Y| {
-        let mut s = 0.0;
+/// First step length: the step whose local error would be about 1 % of the tolerance if the
+/// solution were a polynomial of the method's order, estimated from the sizes of the state, its
+/// slope and (one explicit Euler probe) its second derivative, all in the tolerance scale; never
+/// more than 100 times the probe length nor the whole span (the starting-step rule of Hairer,
+/// Nørsett & Wanner §II.4 `[memory]`).
+fn first_step(rhs: &Rhs, y: &Y, k1: &Y, dir: f64, rtol: f64, atol: f64, span: f64) -> f64 {
+    let scaled = |v: &Y| {
+        let mut squares = 0.0;
         for i in 0..2 {
-            let sk = atol + rtol * y[i].abs();
-            s += (v[i] / sk) * (v[i] / sk);
+            let scale = atol + rtol * y[i].abs();
+            squares += (v[i] / scale) * (v[i] / scale);
         }
-        (0.5 * s).sqrt()
+        (0.5 * squares).sqrt()
     };
-    let (d0, d1) = (norm(y), norm(k1));
-    let h0 = if d0 < 1e-5 || d1 < 1e-5 { 1e-6 } else { 0.01 * d0 / d1 };
-    let h0 = h0.min(span);
-    let y1 = comb(y, h0, &[(1.0, k1)]);
-    let k2 = f(rhs, &y1, dir);
-    let d2 = norm(&[k2[0] - k1[0], k2[1] - k1[1]]) / h0;
-    let h1 =
-        if d1.max(d2) <= 1e-15 { (h0 * 1e-3).max(1e-6) } else { (0.01 / d1.max(d2)).powf(0.2) };
-    (100.0 * h0).min(h1).min(span)
+    let (state_size, slope_size) = (scaled(y), scaled(k1));
+    let probe =
+        if state_size < 1e-5 || slope_size < 1e-5 { 1e-6 } else { 0.01 * state_size / slope_size }
+            .min(span);
+    let probe_slope = f(rhs, &comb(y, probe, &[(1.0, k1)]), dir);
+    let curvature = scaled(&[probe_slope[0] - k1[0], probe_slope[1] - k1[1]]) / probe;
+    let rate = slope_size.max(curvature);
+    let from_rate = if rate <= 1e-15 { (probe * 1e-3).max(1e-6) } else { (0.01 / rate).powf(0.2) };
+    (100.0 * probe).min(from_rate).min(span)
+}
+
+/// Step-length control: the next h from the scaled error of the step just tried.
+///
+/// **Error norm.** The embedded pair gives, per component, the difference e_i between the 5th-
+/// and 4th-order results. Each is measured against its own tolerance
+/// s_i = atol + rtol·max(|y0_i|, |y1_i|) and the two are combined as a root mean square,
+/// err = √(½ Σ (e_i/s_i)²). A step is accepted when err ≤ 1.
+///
+/// **Exponents.** The estimate behaves like C·h⁵ (the 4th-order solution's local error), so if
+/// C stayed put the step with err = 1 would be h·err^(−1/5), a pure integral controller. Its
+/// known fault is oscillating step lengths (accept, reject, accept) when C drifts or the step is
+/// near the stability limit. Adding a proportional term on the change of log err,
+/// log h' = log h − k_I·log err_n − k_P·(log err_n − log err_{n−1}),
+/// gives h' = h·err_n^−(k_I+k_P)·err_{n−1}^k_P. We use k_P = 0.04 and k_I = 0.13: the exponent on
+/// the current error, 0.17, stays a little below 1/5 so a single jump in the estimate is
+/// followed only partly, and the memory term smooths the sequence (the PI choice recommended
+/// for this pair by Hairer, Nørsett & Wanner §II.4 `[memory]`).
+///
+/// **Limits.** The proposal is aimed at err ≈ 0.9^5 rather than 1 (factor [`Self::TARGET`]) so
+/// the next step is usually accepted. The ratio h'/h stays within [`Self::MAX_SHRINK`] … [`Self::MAX_GROWTH`]:
+/// growth is capped because the estimate only knows the stretch just stepped over, shrinking
+/// because a wild estimate (NaN, overflow of a far too long trial) says nothing about how much.
+/// The remembered error is floored at [`Self::ERROR_FLOOR`] so a step that happened to be exact
+/// does not inflate later proposals. Right after a rejection the next accepted step does not
+/// grow (it just failed at a larger length); a rejection itself uses the integral part only.
+struct StepController {
+    /// Scaled error of the last accepted step, floored; the proportional term's memory.
+    previous_error: f64,
+    /// The last trial was rejected: the next accepted step may not grow.
+    after_rejection: bool,
+}
+
+impl StepController {
+    const TARGET: f64 = 0.9;
+    const GAIN_PROPORTIONAL: f64 = 0.04;
+    const GAIN_INTEGRAL: f64 = 0.13;
+    const MAX_SHRINK: f64 = 0.2;
+    const MAX_GROWTH: f64 = 10.0;
+    const ERROR_FLOOR: f64 = 1e-4;
+
+    fn new() -> Self {
+        StepController { previous_error: Self::ERROR_FLOOR, after_rejection: false }
+    }
+
+    /// Exponent on the current error: k_I + k_P.
+    fn current_exponent() -> f64 {
+        Self::GAIN_INTEGRAL + Self::GAIN_PROPORTIONAL
+    }
+
+    /// Length to retry after a trial of length `h` was rejected with scaled error `error`
+    /// (> 1, or NaN/∞ when the trial blew up).
+    fn retry(&mut self, h: f64, error: f64) -> f64 {
+        self.after_rejection = true;
+        let ratio = if error.is_finite() {
+            (Self::TARGET / error.powf(Self::current_exponent())).max(Self::MAX_SHRINK)
+        } else {
+            Self::MAX_SHRINK
+        };
+        h * ratio
+    }
+
+    /// Length proposed after a trial of length `h` was accepted with scaled error `error` ≤ 1.
+    fn next(&mut self, h: f64, error: f64) -> f64 {
+        let proposal = Self::TARGET * self.previous_error.powf(Self::GAIN_PROPORTIONAL)
+            / error.powf(Self::current_exponent());
+        let mut ratio = proposal.clamp(Self::MAX_SHRINK, Self::MAX_GROWTH);
+        if self.after_rejection {
+            ratio = ratio.min(1.0);
+        }
+        self.previous_error = error.max(Self::ERROR_FLOOR);
+        self.after_rejection = false;
+        h * ratio
+    }
 }
 
 /// Integrate with adaptive steps; inputs are already checked by the caller.
@@ -147,11 +242,6 @@ pub(crate) fn run(
     rtol: f64,
     atol: f64,
 ) -> Result<Trajectory, IntegrateError> {
-    const SAFETY: f64 = 0.9;
-    const BETA: f64 = 0.04;
-    const EXPO1: f64 = 0.2 - BETA * 0.75;
-    const FAC_MIN: f64 = 0.2; // largest decrease 1/5
-    const FAC_MAX: f64 = 10.0; // largest increase 10
     let n = times.len();
     let mut traj = Trajectory {
         times: times.to_vec(),
@@ -174,11 +264,10 @@ pub(crate) fn run(
     traj.velocity.push(y[1]);
     let t_end = times[n - 1];
     let mut j = 1; // next sample to fill
-    let mut h = 0.0;
-    let mut k1: Y = [0.0; 2];
-    let mut fresh = true; // k1 (and possibly h) must be recomputed
-    let mut fac_old: f64 = 1e-4;
-    let mut reject_streak = false;
+    let mut h = 0.0; // step length to try next; 0 until the first guess
+    let mut slope: Y = [0.0; 2]; // f at (t, y)
+    let mut slope_stale = true; // after an event: slope (and the first guess) must be recomputed
+    let mut control = StepController::new();
     while j < n {
         let Mode::Moving(dir) = mode else {
             // At rest for good: every later sample is the rest angle.
@@ -189,64 +278,52 @@ pub(crate) fn run(
             }
             break;
         };
-        if fresh {
-            k1 = f(&rhs, &y, dir);
+        if slope_stale {
+            slope = f(&rhs, &y, dir);
             if h == 0.0 {
-                h = initial_step(&rhs, &y, &k1, dir, rtol, atol, t_end - t);
+                h = first_step(&rhs, &y, &slope, dir, rtol, atol, t_end - t);
             }
-            fresh = false;
+            slope_stale = false;
         }
-        let span = t_end - t;
-        let last = h >= span;
-        let hs = if last { span } else { h };
-        if hs.is_nan() || hs <= 1e-14 * t.abs().max(1.0) {
+        let remaining = t_end - t;
+        let reaches_end = h >= remaining;
+        let trial = if reaches_end { remaining } else { h };
+        if trial.is_nan() || trial <= 1e-14 * t.abs().max(1.0) {
             return Err(IntegrateError::StepTooSmall { t });
         }
-        let st = dp_step(&rhs, &y, &k1, dir, hs, rtol, atol);
-        let err = st.err;
-        if err.is_nan() || err > 1.0 {
+        let step = dp_step(&rhs, &y, &slope, dir, trial, rtol, atol);
+        if step.error.is_nan() || step.error > 1.0 {
             // Rejected (a NaN error counts as rejected and shrinks the step).
-            let fac11 = if err.is_finite() { err.powf(EXPO1) } else { 1.0 / FAC_MIN };
-            h = hs / (1.0 / FAC_MIN).min(fac11 / SAFETY);
-            reject_streak = true;
+            h = control.retry(trial, step.error);
             continue;
         }
-        if !(st.y1[0].is_finite() && st.y1[1].is_finite()) {
-            return Err(IntegrateError::NonFinite { t: t + hs });
+        if !(step.end[0].is_finite() && step.end[1].is_finite()) {
+            return Err(IntegrateError::NonFinite { t: t + trial });
         }
-        // PI controller for the next step.
-        let fac11 = err.powf(EXPO1);
-        let mut fac = fac11 / fac_old.powf(BETA);
-        fac = (1.0 / FAC_MAX).max((1.0 / FAC_MIN).min(fac / SAFETY));
-        let mut h_new = hs / fac;
-        if reject_streak {
-            h_new = h_new.min(hs);
-        }
-        fac_old = err.max(1e-4);
-        reject_streak = false;
+        let proposed = control.next(trial, step.error);
 
-        let t_new = if last { t_end } else { t + hs };
-        let g_end = dir * st.y1[1];
+        let t_next = if reaches_end { t_end } else { t + trial };
+        let g_end = dir * step.end[1];
         if g_end > 0.0 {
-            emit(&mut traj, times, &mut j, t, hs, t_new, &st.dense, &st.y1);
-            t = t_new;
-            y = st.y1;
-            k1 = st.k7;
-            h = h_new;
+            emit(&mut traj, times, &mut j, t, trial, t_next, &step.continuation, &step.end);
+            t = t_next;
+            y = step.end;
+            slope = step.end_slope;
+            h = proposed;
             continue;
         }
         // ω reached zero inside the step: root of the dense ω, then redo the step up to it.
-        let s = locate_zero(|s| dir * dense_at(&st.dense, s / hs)[1], hs, dir * y[1], g_end);
+        let s = locate_zero(|s| dir * step.continuation.at(s / trial)[1], trial, dir * y[1], g_end);
         let (tau, y_ev) = if s <= 0.0 {
             (t, y)
-        } else if s >= hs {
-            emit(&mut traj, times, &mut j, t, hs, t_new, &st.dense, &st.y1);
-            (t_new, st.y1)
+        } else if s >= trial {
+            emit(&mut traj, times, &mut j, t, trial, t_next, &step.continuation, &step.end);
+            (t_next, step.end)
         } else {
-            let re = dp_step(&rhs, &y, &k1, dir, s, rtol, atol);
+            let redo = dp_step(&rhs, &y, &slope, dir, s, rtol, atol);
             let tau = t + s;
-            emit(&mut traj, times, &mut j, t, s, tau, &re.dense, &re.y1);
-            (tau, re.y1)
+            emit(&mut traj, times, &mut j, t, s, tau, &redo.continuation, &redo.end);
+            (tau, redo.end)
         };
         let next = if s <= 0.0 {
             Mode::Stuck
@@ -262,8 +339,8 @@ pub(crate) fn run(
         }
         t = tau;
         mode = next;
-        fresh = true;
-        h = h_new.min(hs);
+        slope_stale = true;
+        h = proposed.min(trial);
         if t >= t_end {
             while j < n {
                 traj.angle.push(y[0]);
@@ -284,14 +361,14 @@ fn emit(
     t: f64,
     h: f64,
     t_new: f64,
-    dense: &[Y; 5],
-    y1: &Y,
+    continuation: &Continuation,
+    end: &Y,
 ) {
     while *j < times.len() && times[*j] <= t_new {
         let v = if times[*j].total_cmp(&t_new).is_eq() {
-            *y1
+            *end
         } else {
-            dense_at(dense, (times[*j] - t) / h)
+            continuation.at((times[*j] - t) / h)
         };
         traj.angle.push(v[0]);
         traj.velocity.push(v[1]);
@@ -315,7 +392,7 @@ pub fn fixed_steps(physics: &Physics, release: &Release, t_end: f64, n: usize) -
     let mut y: Y = [release.angle, release.velocity];
     for _ in 0..n {
         let k1 = f(&rhs, &y, dir);
-        y = dp_step(&rhs, &y, &k1, dir, h, 1.0, 1.0).y1;
+        y = dp_step(&rhs, &y, &k1, dir, h, 1.0, 1.0).end;
     }
     Some(y)
 }
