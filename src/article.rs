@@ -311,7 +311,8 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
             }
         };
         let time_unit = unit(&r.time_unit, "time_unit", &["s", "ms", "us"])?;
-        let angle_unit = unit(&r.angle_unit, "angle_unit", &["rad", "deg", "counts"])?;
+        let angle_unit =
+            unit(&r.angle_unit, "angle_unit", &["rad", "mrad", "deg", "grad", "counts"])?;
         let counts_per_rev = match &r.counts_per_rev {
             None => None,
             Some(c) => {

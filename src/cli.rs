@@ -83,10 +83,10 @@ pub struct LoaderArgs {
     /// Angle column: header name or 1-based index (default: detected from the header).
     #[arg(long, value_name = "NAME|N")]
     pub angle_col: Option<String>,
-    /// Time unit when the header has no suffix: s, ms or us.
+    /// Time unit when the header does not state one: s, ms or us (never guessed).
     #[arg(long, value_name = "UNIT")]
     pub time_unit: Option<String>,
-    /// Angle unit when the header has no suffix: rad, deg or counts.
+    /// Angle unit when the header does not state one: rad, mrad, deg, grad or counts.
     #[arg(long, value_name = "UNIT")]
     pub angle_unit: Option<String>,
     /// Encoder counts per revolution, counting edges (quadrature: 4 × lines).

@@ -172,6 +172,7 @@ pub fn load_runs(path: &Path, opts: &LoadOptions) -> Result<segment::FreeRuns, L
 pub fn parse(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<AngleLog, LoadError> {
     let table = read::read(name, bytes, opts)?;
     validate(name, &table.times, &table.angles, &table.lines, "line")?;
+    plausible(name, &table)?;
     Ok(AngleLog {
         source: name.to_string(),
         times: table.times,
@@ -179,6 +180,160 @@ pub fn parse(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<AngleLog, L
         angle_step: table.angle_step,
         dropped_lines: table.dropped_lines,
     })
+}
+
+/// Swing periods a log may show [s]; outside, its time unit is almost surely wrong.
+pub const PERIOD_RANGE_S: (f64, f64) = (0.05, 100.0);
+/// Fewest samples per swing period (the Nyquist limit).
+pub const MIN_SAMPLES_PER_PERIOD: f64 = 2.0;
+
+/// Refuse a log whose swing is not one a pendulum rig logs in the units it was read in: period
+/// outside [`PERIOD_RANGE_S`], under [`MIN_SAMPLES_PER_PERIOD`] samples a period, or a
+/// deflection past ±180° from the equilibrium (the median angle). The message names the likely
+/// unit mix-up and how to state the right unit. Units are never guessed: this only refuses.
+fn plausible(name: &str, t: &read::Table) -> Result<(), LoadError> {
+    use crate::units::{AngleUnit, TimeUnit};
+    let err = |kind: String| LoadError { path: name.to_string(), line: None, kind };
+    let crossings = midline_crossing_times(&t.times, &t.angles);
+    if let (Some(first), Some(last)) = (crossings.first(), crossings.last())
+        && crossings.len() >= 2
+        && is_smooth(&t.angles)
+    {
+        let period = 2.0 * (last - first) / (crossings.len() - 1) as f64;
+        let (lo, hi) = PERIOD_RANGE_S;
+        if !(lo..=hi).contains(&period) {
+            let as_read = t.time_unit.to_seconds();
+            let fits = |u: TimeUnit| (lo..=hi).contains(&(period / as_read * u.to_seconds()));
+            let likely = [TimeUnit::Seconds, TimeUnit::Millis, TimeUnit::Micros]
+                .into_iter()
+                .find(|&u| u != t.time_unit && fits(u));
+            let hint = match likely {
+                Some(u) => format!(
+                    "times look like {} read as {}: give --time-unit {u} or name the column time_{u}",
+                    time_unit_words(u),
+                    time_unit_words(t.time_unit)
+                ),
+                None => "check the time column and its unit (--time-unit s|ms|us)".to_string(),
+            };
+            return Err(err(format!(
+                "swing period {} s (times read in {}) is outside {lo} to {hi} s; {hint}",
+                sig(period),
+                t.time_unit
+            )));
+        }
+        let mut dt: Vec<f64> = t.times.windows(2).map(|w| w[1] - w[0]).collect();
+        let m = dt.len() / 2;
+        if m < dt.len() {
+            let (_, med, _) = dt.select_nth_unstable_by(m, f64::total_cmp);
+            let per = period / *med;
+            if per < MIN_SAMPLES_PER_PERIOD {
+                return Err(err(format!(
+                    "only {} samples per swing period of {} s: expected at least {MIN_SAMPLES_PER_PERIOD} (the swing is aliased); log faster, or check the time unit",
+                    sig(per),
+                    sig(period)
+                )));
+            }
+        }
+    }
+    let mut sorted = t.angles.clone();
+    let m = sorted.len() / 2;
+    if m < sorted.len() {
+        let (_, mid, _) = sorted.select_nth_unstable_by(m, f64::total_cmp);
+        let mid = *mid;
+        let reach = t.angles.iter().map(|a| (a - mid).abs()).fold(0.0, f64::max);
+        if reach > std::f64::consts::PI {
+            let raw = reach / t.angle_unit.to_radians(Some(1.0)).unwrap_or(1.0);
+            let hint = match t.angle_unit {
+                AngleUnit::Radians if raw.to_radians() <= std::f64::consts::PI => {
+                    "angles look like degrees read as radians: give --angle-unit deg or name the column angle_deg".to_string()
+                }
+                AngleUnit::Radians | AngleUnit::Degrees | AngleUnit::Gradians
+                    if raw * 1e-3 <= std::f64::consts::PI =>
+                {
+                    format!(
+                        "angles look like milliradians read as {}: give --angle-unit mrad or name the column angle_mrad",
+                        t.angle_unit
+                    )
+                }
+                AngleUnit::Counts => "angles look like encoder counts with the wrong --counts-per-rev: give the edges per revolution (quadrature: 4 per line), or --counts-wrap BITS if the counter wraps".to_string(),
+                _ => format!(
+                    "check the angle column and its unit (read as {}; --angle-unit rad|mrad|deg|grad|counts)",
+                    t.angle_unit
+                ),
+            };
+            return Err(err(format!(
+                "angle reaches {} deg from the equilibrium (read in {}), past ±180 deg; {hint}",
+                sig(reach.to_degrees()),
+                t.angle_unit
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Whether the angle moves smoothly from sample to sample, so its midline crossings time a
+/// swing: the RMS step is under half the √2 × RMS deflection that sensor noise alone would
+/// give (a swing with over about 12 samples a period). A log at rest, all noise, is not, and its
+/// crossings say nothing about the time unit (the segmentation refuses it, saying why).
+fn is_smooth(angles: &[f64]) -> bool {
+    let n = angles.len() as f64;
+    let mean = angles.iter().sum::<f64>() / n;
+    let var = angles.iter().map(|a| (a - mean).powi(2)).sum::<f64>() / n;
+    let step = angles.windows(2).map(|w| (w[1] - w[0]).powi(2)).sum::<f64>() / (n - 1.0).max(1.0);
+    step < 0.25 * 2.0 * var
+}
+
+fn time_unit_words(u: crate::units::TimeUnit) -> &'static str {
+    match u {
+        crate::units::TimeUnit::Seconds => "seconds",
+        crate::units::TimeUnit::Millis => "milliseconds",
+        crate::units::TimeUnit::Micros => "microseconds",
+    }
+}
+
+/// Four significant figures, for messages.
+fn sig(x: f64) -> String {
+    if x != 0.0 && (x.abs() >= 1e5 || x.abs() < 1e-3) {
+        format!("{x:.3e}")
+    } else {
+        let d = (3 - x.abs().log10().floor() as i32).clamp(0, 6) as usize;
+        format!("{x:.d$}")
+    }
+}
+
+/// Times of the midline crossings counted by [`midline_crossings`] (the sample at which the
+/// angle is first seen on the new side).
+fn midline_crossing_times(times: &[f64], angles: &[f64]) -> Vec<f64> {
+    let (lo, hi) = angles
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &a| (lo.min(a), hi.max(a)));
+    let range = hi - lo;
+    let mut out = Vec::new();
+    if !(range.is_finite() && range > 0.0) {
+        return out;
+    }
+    let mut sorted = angles.to_vec();
+    let m = sorted.len() / 2;
+    let (_, mid, _) = sorted.select_nth_unstable_by(m, f64::total_cmp);
+    let mid = *mid;
+    let h = 0.05 * range;
+    let mut side = 0i8;
+    for (&t, &a) in times.iter().zip(angles) {
+        let s = if a > mid + h {
+            1
+        } else if a < mid - h {
+            -1
+        } else {
+            0
+        };
+        if s != 0 {
+            if side != 0 && s != side {
+                out.push(t);
+            }
+            side = s;
+        }
+    }
+    out
 }
 
 /// Crossings of the midline needed for "two swings": a full swing crosses it twice.
@@ -189,36 +344,8 @@ pub const MIN_MIDLINE_CROSSINGS: usize = 4;
 /// the angle passes from below `mid − h` to above `mid + h` or back. (The median, not the
 /// midrange, because the first swing of a decaying log would pull the midrange off centre.)
 pub fn midline_crossings(angles: &[f64]) -> usize {
-    let (lo, hi) = angles
-        .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &a| (lo.min(a), hi.max(a)));
-    let range = hi - lo;
-    if !(range.is_finite() && range > 0.0) {
-        return 0;
-    }
-    let mut sorted = angles.to_vec();
-    let m = sorted.len() / 2;
-    let (_, mid, _) = sorted.select_nth_unstable_by(m, f64::total_cmp);
-    let mid = *mid;
-    let h = 0.05 * range;
-    let mut side = 0i8;
-    let mut n = 0;
-    for &a in angles {
-        let s = if a > mid + h {
-            1
-        } else if a < mid - h {
-            -1
-        } else {
-            0
-        };
-        if s != 0 {
-            if side != 0 && s != side {
-                n += 1;
-            }
-            side = s;
-        }
-    }
-    n
+    let index: Vec<f64> = (0..angles.len()).map(|i| i as f64).collect();
+    midline_crossing_times(&index, angles).len()
 }
 
 /// The checks every log passes: same length, finite, strictly increasing time, at least

@@ -1,7 +1,7 @@
 //! Units of time and angle in logs, and their conversion to SI.
 //!
-//! A log may record time in seconds, milliseconds or microseconds and angle in radians, degrees
-//! or encoder counts. The loader learns the unit from a header suffix (`t_ms`, `angle_deg`,
+//! A log may record time in seconds, milliseconds or microseconds and angle in radians,
+//! milliradians, degrees, gradians (gon) or encoder counts. The loader learns the unit from a header suffix (`t_ms`, `angle_deg`,
 //! `time [s]`) or from an option, and converts every value to seconds and radians once, here.
 
 use std::f64::consts::PI;
@@ -54,18 +54,24 @@ impl fmt::Display for TimeUnit {
 pub enum AngleUnit {
     /// Radians.
     Radians,
+    /// Milliradians.
+    Milliradians,
     /// Degrees.
     Degrees,
+    /// Gradians (gon): 400 to the turn.
+    Gradians,
     /// Encoder counts (needs counts per revolution).
     Counts,
 }
 
 impl AngleUnit {
-    /// Parse a unit token (`rad`, `deg`, `counts`), case-insensitive.
+    /// Parse a unit token (`rad`, `mrad`, `deg`, `grad`/`gon`, `counts`), case-insensitive.
     pub fn parse(token: &str) -> Option<AngleUnit> {
         match token.trim().to_ascii_lowercase().as_str() {
             "rad" | "rads" | "radians" => Some(AngleUnit::Radians),
+            "mrad" | "mrads" | "milliradians" => Some(AngleUnit::Milliradians),
             "deg" | "degs" | "degrees" | "°" => Some(AngleUnit::Degrees),
+            "grad" | "grads" | "gradians" | "gon" | "gons" => Some(AngleUnit::Gradians),
             "counts" | "count" | "cnt" | "ticks" | "edges" => Some(AngleUnit::Counts),
             _ => None,
         }
@@ -76,7 +82,9 @@ impl AngleUnit {
     pub fn to_radians(self, counts_per_rev: Option<f64>) -> Option<f64> {
         match self {
             AngleUnit::Radians => Some(1.0),
+            AngleUnit::Milliradians => Some(1e-3),
             AngleUnit::Degrees => Some(PI / 180.0),
+            AngleUnit::Gradians => Some(PI / 200.0),
             AngleUnit::Counts => match counts_per_rev {
                 Some(n) if n.is_finite() && n > 0.0 => Some(2.0 * PI / n),
                 _ => None,
@@ -89,7 +97,9 @@ impl fmt::Display for AngleUnit {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(match self {
             AngleUnit::Radians => "rad",
+            AngleUnit::Milliradians => "mrad",
             AngleUnit::Degrees => "deg",
+            AngleUnit::Gradians => "grad",
             AngleUnit::Counts => "counts",
         })
     }

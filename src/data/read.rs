@@ -14,6 +14,9 @@ pub(super) struct Table {
     pub lines: Vec<u64>,
     pub angle_step: Option<f64>,
     pub dropped_lines: Vec<u64>,
+    /// Units the columns were read in (for the plausibility messages).
+    pub time_unit: TimeUnit,
+    pub angle_unit: AngleUnit,
 }
 
 /// Field separator found in the header.
@@ -114,6 +117,34 @@ fn split_header(name: &str) -> (String, Option<HeaderUnit>) {
     (lower, None)
 }
 
+/// A unit token without the brackets or parentheses it may be written in: `[s]`, `( deg )`.
+fn bare_unit(s: &str) -> &str {
+    let s = s.trim();
+    s.strip_prefix(['[', '(']).and_then(|r| r.strip_suffix([']', ')'])).map_or(s, str::trim)
+}
+
+/// For a header name that gives no unit: the name to suggest a suffix on, and why (no unit
+/// written, or one swingfit does not know).
+fn unitless(name: &str) -> (String, String) {
+    let lower = name.trim().to_lowercase();
+    let (base, written) = match lower.find(['[', '(']) {
+        Some(open) => (
+            lower[..open].trim().to_string(),
+            Some(lower[open + 1..].trim_end_matches([']', ')']).trim().to_string()),
+        ),
+        None => match lower.rfind(['_', '-', ' ', '.']).filter(|&p| p > 0 && p + 1 < lower.len()) {
+            Some(p) => (lower[..p].to_string(), Some(lower[p + 1..].to_string())),
+            None => (lower.clone(), None),
+        },
+    };
+    let stem: String = base.chars().filter(|c| c.is_alphanumeric() || *c == '_').collect();
+    let stem = if stem.is_empty() { "col".to_string() } else { stem };
+    match written {
+        Some(w) if !w.is_empty() => (stem, format!("has a unit swingfit does not know ('{w}')")),
+        _ => (stem, "has no unit in its header".to_string()),
+    }
+}
+
 fn unquote(s: &str) -> &str {
     let s = s.trim();
     s.strip_prefix('"').and_then(|r| r.strip_suffix('"')).unwrap_or(s).trim()
@@ -187,7 +218,14 @@ fn choose(
         };
     }
     let matches: Vec<usize> = (0..header.len())
-        .filter(|&i| usual.contains(&split_header(&header[i]).0.as_str()))
+        .filter(|&i| {
+            // A name with a bracketed unit (`angle (V)`) is of its kind whatever the unit, so
+            // an unknown unit is refused as such, not as a missing column.
+            let lower = header[i].trim().to_lowercase();
+            let bracketed = lower.find(['[', '(']).map(|p| lower[..p].trim().to_string());
+            usual.contains(&split_header(&header[i]).0.as_str())
+                || bracketed.is_some_and(|b| usual.contains(&b.as_str()))
+        })
         .collect();
     match matches.as_slice() {
         [i] => Ok(*i),
@@ -276,26 +314,63 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     }
     let (tbase, tunit_h) = split_header(&header[ti]);
     let (abase, aunit_h) = split_header(&header[ai]);
+    // A units row right under the header (`s,deg`, `[ms];(rad)`) states the units of the
+    // columns whose names do not; it is not a data row.
+    let mut rows = rows;
+    let mut row_units = (None, None);
+    if let Some(&(_, first)) = rows.first() {
+        let f = delim.split(first);
+        let tok = |i: usize| f.get(i).map(|s| bare_unit(unquote(s))).and_then(unit_token);
+        let (tu, au) = (tok(ti), tok(ai));
+        if matches!(tu, Some(HeaderUnit::Time(_))) || matches!(au, Some(HeaderUnit::Angle(_))) {
+            if let Some(HeaderUnit::Time(u)) = tu {
+                row_units.0 = Some(u);
+            }
+            if let Some(HeaderUnit::Angle(u)) = au {
+                row_units.1 = Some(u);
+            }
+            rows = &rows[1..];
+        }
+    }
 
     let time_unit = match opts.time_unit.as_deref() {
         Some(u) => TimeUnit::parse(u)
             .ok_or_else(|| err(None, format!("unknown time unit '{u}': expected s, ms or us")))?,
-        None => match tunit_h {
-            Some(HeaderUnit::Time(u)) => u,
-            _ => TimeUnit::parse(&tbase).unwrap_or(TimeUnit::Seconds),
+        None => match (tunit_h, row_units.0) {
+            (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
+            _ if let Some(u) = TimeUnit::parse(&tbase) => u,
+            _ => {
+                let (stem, why) = unitless(&header[ti]);
+                return Err(err(
+                    Some(hline),
+                    format!(
+                        "time column '{}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us",
+                        header[ti]
+                    ),
+                ));
+            }
         },
     };
     let angle_unit = match opts.angle_unit.as_deref() {
         Some(u) => AngleUnit::parse(u).ok_or_else(|| {
-            err(None, format!("unknown angle unit '{u}': expected rad, deg or counts"))
+            err(None, format!("unknown angle unit '{u}': expected rad, mrad, deg, grad or counts"))
         })?,
-        None => match aunit_h {
-            Some(HeaderUnit::Angle(u)) => u,
+        None => match (aunit_h, row_units.1) {
+            (Some(HeaderUnit::Angle(u)), _) | (_, Some(u)) => u,
             _ if let Some(u) = AngleUnit::parse(&abase) => u,
             _ if COUNT_NAMES.contains(&abase.as_str()) || opts.counts_per_rev.is_some() => {
                 AngleUnit::Counts
             }
-            _ => AngleUnit::Radians,
+            _ => {
+                let (stem, why) = unitless(&header[ai]);
+                return Err(err(
+                    Some(hline),
+                    format!(
+                        "angle column '{}' {why}: name it {stem}_rad or {stem}_deg (or _mrad, _grad, _counts), or give --angle-unit rad|mrad|deg|grad|counts",
+                        header[ai]
+                    ),
+                ));
+            }
         },
     };
     let to_rad = match angle_unit.to_radians(opts.counts_per_rev) {
@@ -327,6 +402,8 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         lines: Vec::new(),
         angle_step,
         dropped_lines: Vec::new(),
+        time_unit,
+        angle_unit,
     };
     let need = ti.max(ai) + 1;
     for &(line, row) in rows {

@@ -249,3 +249,64 @@ fn json_has_the_promised_keys_and_values() {
     assert!(v["noise_rad"].as_f64().unwrap_or(0.0) >= q / 12f64.sqrt());
     assert_eq!(v["gaps"].as_array().map(Vec::len), Some(0));
 }
+
+#[test]
+fn a_header_without_units_is_refused_with_how_to_state_them() {
+    refused(
+        "no_unit.csv",
+        &[],
+        Some(2),
+        "time column 'time' has no unit in its header: name it time_s, time_ms or time_us, or give --time-unit s|ms|us",
+    );
+    refused(
+        "no_unit.csv",
+        &["--time-unit", "s"],
+        Some(2),
+        "angle column 'angle' has no unit in its header: name it angle_rad or angle_deg",
+    );
+    swingfit()
+        .args(["check", "--time-unit", "s", "--angle-unit", "deg"])
+        .arg(test_data("check/no_unit.csv"))
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("angle range    -7.608 deg to 12.000 deg"));
+}
+
+#[test]
+fn milliseconds_under_a_bare_time_header_are_refused_with_the_mix_up_named() {
+    // The header says nothing of the unit: refused as unstated.
+    refused("ms_as_s.csv", &[], Some(2), "time column 'time' has no unit");
+    // Stated wrongly as seconds: the period of 1600 s names the mix-up.
+    refused(
+        "ms_as_s.csv",
+        &["--time-unit", "s"],
+        None,
+        "times look like milliseconds read as seconds: give --time-unit ms or name the column time_ms",
+    );
+    swingfit()
+        .args(["check", "--time-unit", "ms"])
+        .arg(test_data("check/ms_as_s.csv"))
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("period         1.60000 s"));
+}
+
+#[test]
+fn degrees_under_a_radians_header_are_refused_with_the_mix_up_named() {
+    refused(
+        "deg_as_rad.csv",
+        &[],
+        None,
+        "angles look like degrees read as radians: give --angle-unit deg or name the column angle_deg",
+    );
+}
+
+#[test]
+fn units_in_brackets_and_in_a_units_row_are_read() {
+    for file in ["bracket_units.csv", "units_row.csv"] {
+        swingfit().arg("check").arg(test_data(&format!("check/{file}"))).assert().success().stdout(
+            predicate::str::contains("angle range    -7.608 deg to 12.000 deg")
+                .and(predicate::str::contains("period         1.60000 s")),
+        );
+    }
+}

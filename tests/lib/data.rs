@@ -47,7 +47,7 @@ fn refused(text: &str, o: &LoadOptions, line: Option<u64>, needle: &str) {
 
 /// A good comma log in seconds and radians (header line 1, sample i on line i + 2).
 fn good_text(n: usize) -> String {
-    let mut s = String::from("time,theta\n");
+    let mut s = String::from("time_s,theta_rad\n");
     for i in 0..n {
         let t = 0.02 * i as f64;
         s.push_str(&format!("{t:.4},{:.6}\n", damped(t, 0.1, 0.3)));
@@ -160,7 +160,7 @@ fn coulomb_equilibrium_is_not_the_rest_angle() {
         let ck = if k as i64 % 2 == 0 { delta } else { -delta };
         ck + (ak - ck) * (wn * (t - k * half)).cos()
     };
-    let mut s = String::from("t,angle\n");
+    let mut s = String::from("t [s],angle [rad]\n");
     for i in 0..1500 {
         let t = 0.01 * i as f64;
         s.push_str(&format!("{t:.2},{:.8}\n", offset + angle(t)));
@@ -248,7 +248,7 @@ fn semicolon_with_decimal_commas() {
 fn refusals_name_the_line() {
     refused("", &opts(), Some(1), "empty file");
     refused("# only a note\n\n# another\n", &opts(), Some(3), "only comments");
-    refused("time,theta\n", &opts(), Some(1), "no data rows after the header (line 1)");
+    refused("time_s,theta_rad\n", &opts(), Some(1), "no data rows after the header (line 1)");
     let g = good_text(300);
     let mut lines: Vec<&str> = g.lines().collect();
     lines[10] = "0.1800,inf";
@@ -256,21 +256,26 @@ fn refusals_name_the_line() {
         &lines.join("\n"),
         &opts(),
         Some(11),
-        "expected a finite angle in rad (column 2 'theta'), found \"inf\"",
+        "expected a finite angle in rad (column 2 'theta_rad'), found \"inf\"",
     );
     lines[10] = "0.1800,0.2x";
     refused(
         &lines.join("\n"),
         &opts(),
         Some(11),
-        "expected angle in rad as a number (column 2 'theta'), found \"0.2x\"",
+        "expected angle in rad as a number (column 2 'theta_rad'), found \"0.2x\"",
     );
     let mut lines: Vec<&str> = g.lines().collect();
     lines[20] = lines[19];
     refused(&lines.join("\n"), &opts(), Some(21), "expected strictly increasing time");
     refused(&good_text(MIN_SAMPLES - 1), &opts(), Some(MIN_SAMPLES as u64), "only 49 samples");
     refused(&good_text(300).replace("theta", "omega"), &opts(), Some(1), "no angle column");
-    refused(&good_text(300).replace("time", "t,angle"), &opts(), Some(1), "ambiguous angle column");
+    refused(
+        &good_text(300).replace("time_s", "t_s,angle_deg"),
+        &opts(),
+        Some(1),
+        "ambiguous angle column",
+    );
 }
 
 #[test]
@@ -285,7 +290,7 @@ fn dropped_rows_are_recorded() {
     assert_eq!(log.dropped_lines(), &[6, 100, 201]);
     // All rows bad: refused, with the count.
     refused(
-        "time,theta\nx,y\nz,w\n",
+        "time_s,theta_rad\nx,y\nz,w\n",
         &LoadOptions { drop_bad_rows: true, ..opts() },
         Some(3),
         "after dropping 2 bad rows",
@@ -431,4 +436,87 @@ fn small_swing_period_corrects_a_large_release() {
     assert!(s.period_s.unwrap() / t0 > 1.05, "mean period {:?}", s.period_s);
     let p0 = s.period_small_amplitude_s.expect("T0 estimate");
     assert!((p0 / t0 - 1.0).abs() < 1e-3, "T0 {p0} vs {t0}");
+}
+
+/// The good log with its angle written in `unit` (`per_rad` units to the radian) under `header`.
+fn in_unit(header: &str, per_rad: f64) -> String {
+    let mut s = format!("{header}\n");
+    for i in 0..300 {
+        let t = 0.02 * i as f64;
+        s.push_str(&format!("{t:.4},{:.9}\n", damped(t, 0.1, 0.3) * per_rad));
+    }
+    s
+}
+
+#[test]
+fn milliradians_and_gradians_are_read_at_their_size() {
+    // 1 mrad = 1e-3 rad; 1 gon = π/200 rad (400 gon to the turn, ISO 80000-3).
+    let want = damped(0.02 * 7.0, 0.1, 0.3);
+    for (header, per_rad) in [
+        ("time_s,angle_mrad", 1e3),
+        ("time_s,angle_grad", 200.0 / PI),
+        ("t [s],theta (gon)", 200.0 / PI),
+    ] {
+        let log = load(&in_unit(header, per_rad), &opts());
+        assert!((log.angles()[7] - want).abs() < 1e-9, "{header}: {} vs {want}", log.angles()[7]);
+    }
+    let o = LoadOptions { angle_unit: Some("mrad".into()), ..opts() };
+    let log = load(&in_unit("time_s,theta", 1e3), &o);
+    assert!((log.angles()[7] - want).abs() < 1e-9);
+}
+
+#[test]
+fn units_are_never_guessed() {
+    refused(&in_unit("time,theta_rad", 1.0), &opts(), Some(1), "time column 'time' has no unit");
+    refused(
+        &in_unit("time_s,theta", 1.0),
+        &opts(),
+        Some(1),
+        "angle column 'theta' has no unit in its header: name it theta_rad or theta_deg",
+    );
+    refused(
+        &in_unit("time_s,angle_furlong", 1.0),
+        &LoadOptions { angle_col: Some("angle_furlong".into()), ..opts() },
+        Some(1),
+        "angle column 'angle_furlong' has a unit swingfit does not know ('furlong'): name it angle_rad",
+    );
+    refused(
+        &in_unit("time_s,angle (V)", 1.0),
+        &opts(),
+        Some(1),
+        "has a unit swingfit does not know ('v')",
+    );
+    // Degrees read as radians, milliradians read as degrees: the mix-up is named.
+    refused(
+        &in_unit("time_s,theta_rad", 180.0 / PI),
+        &opts(),
+        None,
+        "angles look like degrees read as radians",
+    );
+    refused(
+        &in_unit("time_s,theta_deg", 1e3),
+        &opts(),
+        None,
+        "angles look like milliradians read as deg: give --angle-unit mrad",
+    );
+    // Seconds read as milliseconds: a period of 1.6 ms.
+    refused(
+        &in_unit("time_ms,theta_rad", 1.0),
+        &opts(),
+        None,
+        "times look like seconds read as milliseconds: give --time-unit s or name the column time_s",
+    );
+}
+
+#[test]
+fn a_units_row_under_the_header_gives_the_units() {
+    let mut s = String::from("time;angle\nms;(deg)\n");
+    for i in 0..300 {
+        let t = 0.02 * i as f64;
+        s.push_str(&format!("{};{:.6}\n", t * 1e3, damped(t, 0.1, 0.3).to_degrees()));
+    }
+    let log = load(&s, &opts());
+    assert_eq!(log.len(), 300);
+    assert!((log.times()[1] - 0.02).abs() < 1e-12);
+    assert!((log.angles()[7] - damped(0.14, 0.1, 0.3)).abs() < 1e-7);
 }
