@@ -25,7 +25,7 @@
 //!
 //! [`search`] finds the least test effort that meets target uncertainties.
 
-// SEARCH_MOD
+pub mod search;
 
 use nalgebra::{DMatrix, DVector};
 

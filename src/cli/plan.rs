@@ -9,7 +9,7 @@ use super::fit::{ArticleArgs, article};
 use super::simulate::params;
 use super::{CmdResult, Failure};
 use crate::model::{DampingSet, Physics, Term};
-use crate::plan::{self, Design, Plan, Record};
+use crate::plan::{self, Design, Plan, Record, search};
 use crate::report::{atomic, json, plan as report};
 
 /// Arguments of `plan`.
@@ -64,6 +64,25 @@ pub struct PlanArgs {
     /// Write the plan as JSON (schema swingfit.plan.v1) to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
+    /// Targets: find the least test effort whose predicted relative uncertainties meet them,
+    /// e.g. `viscous=1%,quadratic=5%` (keys: omega_n, the terms, or physical keys with mass data).
+    #[arg(long, value_name = "KEY=REL,…")]
+    pub target: Option<String>,
+    /// Search: most releases.
+    #[arg(long, value_name = "N", default_value_t = 3)]
+    pub max_releases: usize,
+    /// Search: smallest release angle [deg].
+    #[arg(long, value_name = "DEG", default_value_t = 5.0, allow_negative_numbers = true)]
+    pub min_angle_deg: f64,
+    /// Search: largest release angle [deg].
+    #[arg(long, value_name = "DEG", default_value_t = 90.0, allow_negative_numbers = true)]
+    pub max_angle_deg: f64,
+    /// Search: longest record per release [s].
+    #[arg(long, value_name = "S", default_value_t = 600.0, allow_negative_numbers = true)]
+    pub max_record: f64,
+    /// Search: set-up time counted for each release [s] (effort = releases × (record + this)).
+    #[arg(long, value_name = "S", default_value_t = 60.0, allow_negative_numbers = true)]
+    pub release_cost: f64,
 }
 
 fn finite(name: &str, v: f64) -> Result<f64, Failure> {
@@ -127,8 +146,10 @@ pub fn plan_of(args: &PlanArgs) -> Result<Plan, Failure> {
             set
         }
     };
+    let searching = args.target.is_some();
     let releases: Vec<f64> = if args.release_deg.is_empty() {
         match release {
+            _ if searching => vec![0.5 * (args.min_angle_deg + args.max_angle_deg).to_radians()],
             Some(a) => vec![a],
             None => {
                 return Err(Failure::input(
@@ -142,6 +163,7 @@ pub fn plan_of(args: &PlanArgs) -> Result<Plan, Failure> {
     let record = match (args.record, args.until_rest) {
         (Some(s), _) => Record::Seconds(s),
         (None, true) => Record::UntilRest,
+        (None, false) if searching => Record::Seconds(args.max_record),
         (None, false) => {
             return Err(Failure::input("no record length: give --record S or --until-rest"));
         }
@@ -161,6 +183,9 @@ pub fn plan_of(args: &PlanArgs) -> Result<Plan, Failure> {
 /// Run `plan`.
 pub fn run(args: &PlanArgs) -> CmdResult {
     let plan = plan_of(args)?;
+    if let Some(t) = &args.target {
+        return run_search(args, &plan, t);
+    }
     let pred = plan::predict(&plan).map_err(|e| match e {
         plan::PlanError::Singular { .. } | plan::PlanError::Unresolved { .. } => {
             Failure::rejected(e)
@@ -174,4 +199,38 @@ pub fn run(args: &PlanArgs) -> CmdResult {
     }
     print!("{}", report::plan_table(&plan, &pred));
     Ok(())
+}
+
+/// Run the design search of `plan --target`.
+fn run_search(args: &PlanArgs, base: &Plan, targets: &str) -> CmdResult {
+    let targets =
+        search::parse_targets(targets).map_err(|e| Failure::input(format!("--target: {e}")))?;
+    let bounds = search::Bounds {
+        max_releases: args.max_releases,
+        min_angle: args.min_angle_deg.to_radians(),
+        max_angle: args.max_angle_deg.to_radians(),
+        max_record_s: args.max_record,
+        release_cost_s: args.release_cost,
+    };
+    let outcome = search::search(base, &targets, &bounds).map_err(Failure::input)?;
+    let search_doc = report::search_doc(&targets, &bounds, &outcome);
+    match outcome {
+        search::SearchOutcome::Found(f) => {
+            let plan = Plan { design: f.design.clone(), ..base.clone() };
+            if let Some(path) = &args.json {
+                let doc =
+                    json::to_pretty(&report::plan_doc(&plan, &f.prediction, Some(search_doc)));
+                atomic::write_atomic(path, doc.as_bytes()).map_err(|e| {
+                    Failure::input(format!("{}: cannot write: {e}", path.display()))
+                })?;
+            }
+            print!("{}", report::found_text(&targets, &f));
+            println!();
+            print!("{}", report::plan_table(&plan, &f.prediction));
+            Ok(())
+        }
+        search::SearchOutcome::Blocked(b) => {
+            Err(Failure::rejected(report::blocked_text(&targets, &bounds, &b)))
+        }
+    }
 }

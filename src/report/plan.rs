@@ -23,6 +23,7 @@ use std::fmt::Write as _;
 
 use serde::Serialize;
 
+use crate::plan::search::{Blocked, Bounds, Found, SearchOutcome, Target};
 use crate::plan::{Plan, Prediction, Record};
 use crate::report::table::num;
 
@@ -334,4 +335,82 @@ pub fn plan_table(plan: &Plan, pred: &Prediction) -> String {
         let _ = writeln!(o, "Note: {n}");
     }
     o
+}
+
+fn targets_text(targets: &[Target]) -> String {
+    targets.iter().map(|t| format!("{} {}", t.key, pct(t.relative))).collect::<Vec<_>>().join(", ")
+}
+
+fn angles_text(d: &crate::plan::Design) -> String {
+    d.releases.iter().map(|a| num(a.to_degrees(), 3)).collect::<Vec<_>>().join(", ")
+}
+
+fn record_of(d: &crate::plan::Design) -> f64 {
+    match d.record {
+        Record::Seconds(s) => s,
+        Record::UntilRest => f64::NAN,
+    }
+}
+
+/// The search's answer in words, printed above the plan table of the design found.
+pub fn found_text(targets: &[Target], f: &Found) -> String {
+    format!(
+        "Least test effort meeting {}: {} release{} at {} deg, {} s each ({} s of rig time with set-up); worst target ratio {}\n",
+        targets_text(targets),
+        f.design.releases.len(),
+        if f.design.releases.len() == 1 { "" } else { "s" },
+        angles_text(&f.design),
+        num(record_of(&f.design), 4),
+        num(f.effort_s, 4),
+        num(f.worst_ratio, 3)
+    )
+}
+
+/// The refusal when no design within the bounds meets the targets.
+pub fn blocked_text(targets: &[Target], bounds: &Bounds, b: &Blocked) -> String {
+    format!(
+        "no design within the bounds meets {}: {} blocks it; its best predicted relative uncertainty is {} ({} x its target) with {} release{} at {} deg recorded {} s each; widen the bounds (--max-releases {}, --max-record {} s, --max-angle-deg {}), lower the noise, or relax the target",
+        targets_text(targets),
+        b.key,
+        pct(b.relative),
+        num(b.ratio, 3),
+        b.design.releases.len(),
+        if b.design.releases.len() == 1 { "" } else { "s" },
+        angles_text(&b.design),
+        num(record_of(&b.design), 4),
+        bounds.max_releases,
+        num(bounds.max_record_s, 4),
+        num(bounds.max_angle.to_degrees(), 3)
+    )
+}
+
+/// The search block of the plan JSON.
+pub fn search_doc(
+    targets: &[Target],
+    bounds: &Bounds,
+    outcome: &SearchOutcome,
+) -> serde_json::Value {
+    let targets: Vec<serde_json::Value> = targets
+        .iter()
+        .map(|t| serde_json::json!({ "key": t.key, "relative": t.relative, "unit": "1" }))
+        .collect();
+    let bounds = serde_json::json!({
+        "max_releases": bounds.max_releases,
+        "min_angle": { "value": bounds.min_angle.to_degrees(), "unit": "deg" },
+        "max_angle": { "value": bounds.max_angle.to_degrees(), "unit": "deg" },
+        "max_record": { "value": bounds.max_record_s, "unit": "s" },
+        "release_cost": { "value": bounds.release_cost_s, "unit": "s" },
+    });
+    match outcome {
+        SearchOutcome::Found(f) => serde_json::json!({
+            "targets": targets, "bounds": bounds, "met": true,
+            "effort": { "value": f.effort_s, "unit": "s" },
+            "worst_ratio": f.worst_ratio,
+            "method": "Nelder-Mead (argmin) over the release angles for each number of releases, bisection on the record length",
+        }),
+        SearchOutcome::Blocked(b) => serde_json::json!({
+            "targets": targets, "bounds": bounds, "met": false,
+            "blocking": b.key, "ratio": b.ratio, "relative": b.relative,
+        }),
+    }
 }

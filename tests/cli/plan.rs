@@ -84,3 +84,30 @@ fn impossible_designs_are_refused_with_what_to_change() {
         swingfit().args(base).args(extra).assert().code(2).stderr(predicates::str::contains(msg));
     }
 }
+
+#[test]
+fn target_search_reports_the_design_or_what_blocks_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let json = dir.path().join("search.json");
+    let base = ["plan", "--omega-n", "5", "--viscous", "0.03", "--coulomb", "0.02"];
+    swingfit()
+        .args(base)
+        .args(["--rate", "50", "--noise-deg", "0.01", "--target", "viscous=1%,coulomb=2%"])
+        .arg("--json")
+        .arg(&json)
+        .assert()
+        .success()
+        .stdout(predicates::str::contains("Least test effort meeting"));
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    assert_eq!(doc["search"]["met"], true);
+    assert_eq!(doc["search"]["effort"]["unit"], "s");
+    assert!(doc["predicted"]["viscous"]["relative"].as_f64().unwrap() <= 0.01);
+    assert!(doc["predicted"]["coulomb"]["relative"].as_f64().unwrap() <= 0.02);
+    swingfit()
+        .args(base)
+        .args(["--rate", "50", "--noise-deg", "0.01", "--target", "viscous=0.0001%"])
+        .args(["--max-record", "20", "--max-releases", "1"])
+        .assert()
+        .code(1)
+        .stderr(predicates::str::contains("viscous blocks it"));
+}

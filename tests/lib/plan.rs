@@ -126,3 +126,50 @@ fn a_term_without_magnitude_and_a_perfect_sensor_are_refused() {
     let err = predict(&Plan { physics: p, damping, design: silent, article: None });
     assert_eq!(err.unwrap_err(), PlanError::NoNoise);
 }
+
+#[test]
+fn design_search_finds_a_design_that_meets_the_targets_and_no_shorter_one() {
+    use swingfit::plan::search::{Bounds, SearchOutcome, parse_targets, search};
+    let p = physics(5.0, 0.03, 0.02, 0.015);
+    let base = Plan {
+        physics: p,
+        damping: DampingSet::FULL,
+        design: design(&[1.0], 100.0, 50.0, 0.01f64.to_radians()),
+        article: None,
+    };
+    let targets = parse_targets("viscous=2%, quadratic=5%").unwrap();
+    assert!((targets[0].relative - 0.02).abs() < 1e-15);
+    let bounds = Bounds {
+        max_releases: 3,
+        min_angle: 5f64.to_radians(),
+        max_angle: 90f64.to_radians(),
+        max_record_s: 300.0,
+        release_cost_s: 60.0,
+    };
+    let SearchOutcome::Found(f) = search(&base, &targets, &bounds).unwrap() else {
+        panic!("the targets are reachable")
+    };
+    let Record::Seconds(t) = f.design.record else { panic!("a record length") };
+    let n = f.design.releases.len() as f64;
+    assert!((f.effort_s - n * (t + 60.0)).abs() < 1e-9);
+    // The design meets every target when predicted on its own …
+    let again = predict(&Plan { design: f.design.clone(), ..base.clone() }).unwrap();
+    assert!(again.get("viscous").unwrap().relative <= 0.02);
+    assert!(again.get("quadratic").unwrap().relative <= 0.05);
+    // … and the same angles recorded 5 % shorter do not.
+    let shorter = Design { record: Record::Seconds(t / 1.05), ..f.design.clone() };
+    let short = predict(&Plan { design: shorter, ..base.clone() }).unwrap();
+    assert!(
+        short.get("viscous").unwrap().relative > 0.02
+            || short.get("quadratic").unwrap().relative > 0.05
+    );
+    // A target out of reach names the term that blocks it.
+    let tight = parse_targets("quadratic=0.001%").unwrap();
+    let small = Bounds { max_releases: 2, max_record_s: 30.0, ..bounds };
+    let SearchOutcome::Blocked(b) = search(&base, &tight, &small).unwrap() else {
+        panic!("0.001 % is out of reach in 2 x 30 s")
+    };
+    assert_eq!(b.key, "quadratic");
+    assert!(b.ratio > 1.0);
+    assert!(parse_targets("viscous").is_err() && parse_targets("viscous=-1%").is_err());
+}
