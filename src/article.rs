@@ -329,6 +329,7 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
                 time_unit,
                 angle_unit,
                 counts_per_rev,
+                counts_wrap: None,
                 drop_bad_rows: r.drop_bad_rows,
                 from_s: time_key(&r.from, "from")?,
                 to_s: time_key(&r.to, "to")?,

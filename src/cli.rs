@@ -92,6 +92,9 @@ pub struct LoaderArgs {
     /// Encoder counts per revolution, counting edges (quadrature: 4 × lines).
     #[arg(long, value_name = "N")]
     pub counts_per_rev: Option<f64>,
+    /// Encoder counter width in bits when its readings wrap (8, 16, 24 or 32): unwrap them.
+    #[arg(long, value_name = "BITS")]
+    pub counts_wrap: Option<u32>,
     /// Drop rows with unparseable or non-finite values (reported) instead of refusing the file.
     #[arg(long)]
     pub drop_bad_rows: bool,
@@ -115,6 +118,7 @@ impl LoaderArgs {
             time_unit: self.time_unit.clone(),
             angle_unit: self.angle_unit.clone(),
             counts_per_rev: self.counts_per_rev,
+            counts_wrap: self.counts_wrap,
             drop_bad_rows: self.drop_bad_rows,
             from_s: self.from,
             to_s: self.to,

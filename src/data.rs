@@ -107,6 +107,9 @@ pub struct LoadOptions {
     pub angle_unit: Option<String>,
     /// Encoder counts per revolution (edges, i.e. 4 × lines for quadrature).
     pub counts_per_rev: Option<f64>,
+    /// Encoder counter width in bits (8, 16, 24 or 32) when its readings wrap: unwrapped on
+    /// reading. Without it a jump of over half the counts range between samples is refused.
+    pub counts_wrap: Option<u32>,
     /// Drop unparseable or non-finite rows instead of refusing the file.
     pub drop_bad_rows: bool,
     /// Fit from this time on the log's axis [s] instead of the detected release

@@ -66,6 +66,7 @@ fn loader_of(o: &crate::data::LoadOptions) -> LoaderArgs {
         time_unit: o.time_unit.clone(),
         angle_unit: o.angle_unit.clone(),
         counts_per_rev: o.counts_per_rev,
+        counts_wrap: o.counts_wrap,
         drop_bad_rows: o.drop_bad_rows,
         from: o.from_s,
         to: o.to_s,

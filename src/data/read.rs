@@ -393,6 +393,23 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             });
         }
     };
+    if let Some(b) = opts.counts_wrap {
+        if ![8, 16, 24, 32].contains(&b) {
+            return Err(err(
+                None,
+                format!("--counts-wrap {b} is not a counter width: expected 8, 16, 24 or 32 bits"),
+            ));
+        }
+        if angle_unit != AngleUnit::Counts {
+            return Err(err(
+                Some(hline),
+                format!(
+                    "--counts-wrap is for encoder counts, but angle column '{}' is in {angle_unit}: drop the option or give --angle-unit counts",
+                    header[ai]
+                ),
+            ));
+        }
+    }
     let to_s = time_unit.to_seconds();
     let angle_step = (angle_unit == AngleUnit::Counts).then_some(to_rad);
 
@@ -440,12 +457,19 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         match parsed {
             Ok((t, a)) => {
                 table.times.push(t * to_s);
-                table.angles.push(a * to_rad);
+                table.angles.push(a);
                 table.lines.push(line);
             }
             Err(_) if opts.drop_bad_rows => table.dropped_lines.push(line),
             Err(kind) => return Err(err(Some(line), kind)),
         }
+    }
+    if angle_unit == AngleUnit::Counts {
+        unwrap_counts(&mut table.angles, &table.lines, opts.counts_wrap)
+            .map_err(|(line, kind)| err(Some(line), kind))?;
+    }
+    for a in &mut table.angles {
+        *a *= to_rad;
     }
     if table.times.is_empty() {
         let kind = if table.dropped_lines.is_empty() {
@@ -459,6 +483,62 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         return Err(err(Some(last_line.max(hline)), kind));
     }
     Ok(table)
+}
+
+/// Counter widths `--counts-wrap` takes.
+const WRAP_BITS: [u32; 4] = [8, 16, 24, 32];
+
+/// Unwrap raw counts of a counter `bits` wide: the first reading is taken in the signed range
+/// [−2^(bits−1), 2^(bits−1)), each step as the shortest one modulo 2^bits. Without `bits`, a step
+/// of more than half the column's range is refused at its line, suggesting the option (a wrapped
+/// counter jumps by nearly its whole width; a swing sampled at least 2 times a period cannot).
+fn unwrap_counts(
+    counts: &mut [f64],
+    lines: &[u64],
+    bits: Option<u32>,
+) -> Result<(), (u64, String)> {
+    let Some(bits) = bits else {
+        let (lo, hi) = counts
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &a| (lo.min(a), hi.max(a)));
+        let range = hi - lo;
+        for i in 1..counts.len() {
+            let step = counts[i] - counts[i - 1];
+            if range > 0.0 && step.abs() > 0.5 * range {
+                let width = WRAP_BITS.iter().copied().find(|&b| 2f64.powi(b as i32) > range);
+                let hint = match width {
+                    Some(b) => {
+                        format!("if the counter wraps, give --counts-wrap {b} (its width in bits)")
+                    }
+                    None => "check the counts column".to_string(),
+                };
+                return Err((
+                    lines.get(i).copied().unwrap_or(0),
+                    format!(
+                        "counts jump by {step} between consecutive samples, more than half their range of {range}: {hint}"
+                    ),
+                ));
+            }
+        }
+        return Ok(());
+    };
+    let m = 2f64.powi(bits as i32);
+    let signed = |d: f64| {
+        let r = d.rem_euclid(m);
+        if r >= 0.5 * m { r - m } else { r }
+    };
+    let mut prev = match counts.first() {
+        Some(&c) => c,
+        None => return Ok(()),
+    };
+    let mut acc = signed(prev);
+    for c in counts.iter_mut() {
+        let raw = *c;
+        acc += signed(raw - prev);
+        prev = raw;
+        *c = acc;
+    }
+    Ok(())
 }
 
 #[cfg(test)]

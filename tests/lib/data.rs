@@ -520,3 +520,74 @@ fn a_units_row_under_the_header_gives_the_units() {
     assert!((log.times()[1] - 0.02).abs() < 1e-12);
     assert!((log.angles()[7] - damped(0.14, 0.1, 0.3)).abs() < 1e-7);
 }
+
+/// The demo encoder log with every count taken modulo 2^bits, as a wrapping counter logs it.
+fn wrapped_demo(bits: u32) -> String {
+    let path =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/ba7_release60_counts.csv");
+    let text = std::fs::read_to_string(path).expect("demo log");
+    let m = 1i64 << bits;
+    let mut out = String::new();
+    let mut header_seen = false;
+    for line in text.lines() {
+        if line.starts_with('#') || line.trim().is_empty() || !header_seen {
+            header_seen |= !(line.starts_with('#') || line.trim().is_empty());
+            out.push_str(line);
+        } else {
+            let (t, c) = line.split_once(',').expect("two fields");
+            let c: i64 = c.trim().parse().expect("integer counts");
+            out.push_str(&format!("{t},{}", c.rem_euclid(m)));
+        }
+        out.push('\n');
+    }
+    out
+}
+
+#[test]
+fn a_wrapped_16_bit_counter_is_unwrapped_to_the_same_log_and_coefficients() {
+    use swingfit::fit::{FitOptions, fit};
+    use swingfit::model::{DampingSet, Term};
+    let demo =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/ba7_release60_counts.csv");
+    let o = LoadOptions { counts_per_rev: Some(10000.0), ..opts() };
+    let original = swingfit::data::load(&demo, &o).expect("demo loads");
+    let text = wrapped_demo(16);
+    assert!(text.contains(",655"), "the copy must actually wrap (negative counts near 65536)");
+    // Without the option: refused at the first wrap, suggesting it.
+    match parse("wrapped.csv", text.as_bytes(), &o) {
+        Ok(_) => panic!("a wrapped counter was accepted"),
+        Err(e) => {
+            assert!(e.line.is_some(), "{e}");
+            assert!(e.kind.contains("give --counts-wrap 16"), "{e}");
+        }
+    }
+    let w = LoadOptions { counts_wrap: Some(16), ..o.clone() };
+    let unwrapped = load(&text, &w);
+    assert_eq!(unwrapped.angles(), original.angles(), "unwrapped counts are the logged ones");
+    let fo = FitOptions {
+        damping: DampingSet::from_terms(&[Term::Viscous, Term::Coulomb, Term::Quadratic]),
+        ..FitOptions::default()
+    };
+    let cut = |log: &AngleLog| {
+        swingfit::data::segment::free_runs(log, swingfit::data::segment::Window::default())
+            .expect("free runs")
+            .runs
+    };
+    let a = fit(&cut(&original), &fo).expect("original fits");
+    let b = fit(&cut(&unwrapped), &fo).expect("unwrapped fits");
+    assert_eq!(a.omega_n.value.to_bits(), b.omega_n.value.to_bits());
+    for ((ta, ea), (tb, eb)) in a.terms.iter().zip(&b.terms) {
+        assert_eq!(ta, tb);
+        assert_eq!(ea.value.to_bits(), eb.value.to_bits(), "{ta:?}");
+        assert_eq!(ea.ci95, eb.ci95, "{ta:?}");
+    }
+    // Only counter widths, and only on counts.
+    let bad = LoadOptions { counts_wrap: Some(12), ..o };
+    refused(&text, &bad, None, "--counts-wrap 12 is not a counter width");
+    refused(
+        &good_text(300),
+        &LoadOptions { counts_wrap: Some(16), ..opts() },
+        Some(1),
+        "--counts-wrap is for encoder counts",
+    );
+}
