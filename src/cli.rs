@@ -49,7 +49,8 @@ pub type CmdResult = Result<(), Failure>;
 #[command(
     name = "swingfit",
     version,
-    about = "Moment of inertia and damping of a swinging test article, from its angle logs"
+    about = "Moment of inertia and damping of a swinging test article, from its angle logs",
+    after_help = crate::safety::SAFETY
 )]
 struct Cli {
     #[command(subcommand)]

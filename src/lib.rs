@@ -57,5 +57,6 @@ pub mod model;
 pub mod physical;
 pub mod plan;
 pub mod report;
+pub mod safety;
 pub mod stats;
 pub mod units;

@@ -3,8 +3,10 @@
 pub mod atomic;
 pub mod budget;
 pub mod json;
+pub mod pdf;
 pub mod plan;
 pub mod plot;
 pub mod sheet;
 pub mod table;
+pub mod typeset;
 pub mod verdict;

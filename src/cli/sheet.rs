@@ -34,6 +34,10 @@ pub struct SheetArgs {
     /// Compare every damping set and fit the one the comparison picks.
     #[arg(long)]
     pub compare: bool,
+    /// Also write sheet.pdf, printed by a headless Chromium (refused, exit 2, when none is
+    /// installed).
+    #[arg(long)]
+    pub pdf: bool,
     /// Loader options (logs mode).
     #[command(flatten)]
     pub loader: LoaderArgs,
@@ -130,7 +134,8 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
             }
             let physical = article(&args.mass)?;
             let damping = if args.compare { DampingChoice::Auto } else { given };
-            let name = args.article.clone().unwrap_or_else(|| "unnamed article".into());
+            // No name given: the sheet says so rather than inventing one.
+            let name = args.article.clone().unwrap_or_default();
             Ok(Plan {
                 identity: Identity {
                     id: name.clone(),
@@ -156,6 +161,11 @@ fn plan(args: &SheetArgs) -> Result<Plan, Failure> {
 pub fn run(args: &SheetArgs) -> CmdResult {
     let plan = plan(args)?;
     sheet::check_destination(&args.out, args.force).map_err(Failure::input)?;
+    let browser = if args.pdf {
+        Some(crate::report::pdf::find_browser().map_err(Failure::input)?)
+    } else {
+        None
+    };
     let base = args.estimator.options()?;
     let mut logs = Vec::new();
     for (path, loader, _) in &plan.logs {
@@ -200,7 +210,8 @@ pub fn run(args: &SheetArgs) -> CmdResult {
         damping_auto: matches!(plan.damping, DampingChoice::Auto),
         provenance: Provenance::now(&argv, inputs),
     };
-    let written = sheet::write_sheet(&args.out, args.force, &input).map_err(Failure::input)?;
+    let written = sheet::write_sheet_with_pdf(&args.out, args.force, &input, browser.as_deref())
+        .map_err(Failure::input)?;
     println!("wrote {} ({} files)", written.dir.display(), written.files.len());
     print!(
         "{}",

@@ -291,47 +291,49 @@ pub fn overlay(run: &RunView<'_>, omega_n: f64, window: Window, stem: &str) -> C
         }
     };
     let deg = 180.0 / std::f64::consts::PI;
+    // Angles are shown from the fitted equilibrium, so an encoder run reads as a swing about
+    // zero, not in the encoder's raw frame.
+    let eq = run.fit.equilibrium.value;
+    let from_rest = |v: &[f64]| v.iter().map(|a| a - eq).collect::<Vec<f64>>();
     Chart {
         stem: stem.to_string(),
-        title: format!("{}: measured angle and fitted model, {what}", run.name),
+        title: format!("{}: measured angle over the fitted model, {what}", run.name),
         x_label: "time [s]".into(),
-        y_label: "angle [deg]".into(),
+        y_label: "angle from rest [deg]".into(),
         series: vec![
             Series {
                 label: "measured".into(),
-                points: time_series(t, run.angles, deg, range),
+                points: time_series(t, &from_rest(run.angles), deg, range),
                 mark: Mark::Line,
             },
             Series {
                 label: "fitted model".into(),
-                points: time_series(t, &run.fit.model_angle, deg, range),
+                points: time_series(t, &from_rest(&run.fit.model_angle), deg, range),
                 mark: Mark::Line,
             },
         ],
     }
 }
 
-/// Residuals model − measured against time, in millidegrees, one series per run.
-pub fn residuals(runs: &[RunView<'_>], stem: &str) -> Chart {
+/// Residuals model − measured against time of one run, in millidegrees, in its own panel (each
+/// run on its own scale, so structure in either can be seen).
+pub fn residuals(run: &RunView<'_>, stem: &str) -> Chart {
     let mdeg = 180.0e3 / std::f64::consts::PI;
     Chart {
         stem: stem.to_string(),
-        title: "Residuals (model minus measured)".into(),
+        title: format!("{}: residuals (model minus measured)", run.name),
         x_label: "time [s]".into(),
         y_label: "residual [mdeg]".into(),
-        series: runs
-            .iter()
-            .map(|r| Series {
-                label: r.name.to_string(),
-                points: time_series(
-                    r.times,
-                    &r.fit.residuals,
-                    mdeg,
-                    (f64::NEG_INFINITY, f64::INFINITY),
-                ),
-                mark: Mark::Line,
-            })
-            .collect(),
+        series: vec![Series {
+            label: "residual".into(),
+            points: time_series(
+                run.times,
+                &run.fit.residuals,
+                mdeg,
+                (f64::NEG_INFINITY, f64::INFINITY),
+            ),
+            mark: Mark::Line,
+        }],
     }
 }
 
@@ -477,6 +479,14 @@ pub fn phase_portrait(run: &RunView<'_>, omega_n: f64, stem: &str) -> Chart {
 }
 
 /// Colours of the series in order: measured in dark grey, models in strong colours.
+/// Colour of the measured series: near black, drawn on top.
+const MEASURED: RGBColor = RGBColor(25, 25, 25);
+/// Colour of a single model line: a light red, wide, under the data.
+const MODEL: RGBColor = RGBColor(244, 150, 150);
+/// Colours of rejected candidates: pale, so the chosen model stands out.
+const MUTED: [RGBColor; 3] =
+    [RGBColor(170, 190, 215), RGBColor(185, 210, 180), RGBColor(205, 190, 215)];
+
 const PALETTE: [RGBColor; 8] = [
     RGBColor(90, 90, 90),
     RGBColor(214, 39, 40),
@@ -528,16 +538,33 @@ where
         .light_line_style(RGBColor(235, 235, 235))
         .draw()
         .map_err(e)?;
-    for (i, s) in chart.series.iter().enumerate() {
-        let color = PALETTE[i % PALETTE.len()];
+    // Measured series (the first, or any labelled "measured") are drawn last, dark and thin, so
+    // the data lie visibly over the lighter, wider model lines; in a comparison (one model
+    // labelled "(chosen)") the chosen model is drawn strong and the rejected ones muted.
+    let measured = |i: usize, s: &Series| i == 0 || s.label.contains("measured");
+    let candidates = chart.series.iter().any(|s| s.label.contains("(chosen)"));
+    let (data, models): (Vec<usize>, Vec<usize>) =
+        (0..chart.series.len()).partition(|&i| measured(i, &chart.series[i]));
+    for (rank, i) in models.iter().chain(&data).copied().enumerate() {
+        let s = &chart.series[i];
+        let chosen = s.label.contains("(chosen)");
+        let (color, width) = if measured(i, s) {
+            (MEASURED, 1)
+        } else if candidates && !chosen {
+            (MUTED[rank % MUTED.len()], 1)
+        } else if candidates {
+            (PALETTE[1], 3)
+        } else {
+            (MODEL, 4)
+        };
         let pts = s.points.iter().copied().filter(|(x, y)| x.is_finite() && y.is_finite());
         let anno = match s.mark {
             Mark::Line => {
-                let width = if i == 0 { 1 } else { 2 };
                 cc.draw_series(LineSeries::new(pts, color.stroke_width(width))).map_err(e)?
             }
             Mark::Dots => {
-                cc.draw_series(pts.map(|p| Circle::new(p, 3, color.filled()))).map_err(e)?
+                let r = if measured(i, s) { 3 } else { 2 };
+                cc.draw_series(pts.map(move |p| Circle::new(p, r, color.filled()))).map_err(e)?
             }
         };
         anno.label(&s.label).legend(move |(x, y)| {
@@ -586,8 +613,8 @@ pub fn render_png(chart: &Chart, path: &Path) -> Result<(), PlotError> {
     draw(root, chart).map_err(|what| PlotError { stem: chart.stem.clone(), what })
 }
 
-/// Every chart of a sheet: per run the overlays (whole, first, last cycles) and the phase
-/// portrait and the decay envelope; then the residuals and period against amplitude.
+/// Every chart of a sheet: per run the overlays (whole, first, last cycles), the phase portrait,
+/// the decay envelope and the residuals; then period against amplitude.
 pub fn sheet_charts(
     runs: &[RunView<'_>],
     omega_n: f64,
@@ -601,8 +628,8 @@ pub fn sheet_charts(
         charts.push(overlay(r, omega_n, Window::Last, &format!("run{n}_last_cycles")));
         charts.push(phase_portrait(r, omega_n, &format!("run{n}_phase")));
         charts.push(envelope(r, k, comparison, &format!("run{n}_envelope")));
+        charts.push(residuals(r, &format!("run{n}_residuals")));
     }
-    charts.push(residuals(runs, "residuals"));
     charts.push(period_amplitude(runs, comparison, "period_amplitude"));
     charts
 }

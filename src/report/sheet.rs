@@ -42,19 +42,13 @@ use crate::fit::compare::Comparison;
 use crate::physical::PhysicalCoefficients;
 use crate::report::json;
 use crate::report::plot::{self, Chart, RunView};
+use crate::report::typeset;
 
 /// Schema tag of the sheet JSON.
 pub const SHEET_SCHEMA: &str = "swingfit.sheet.v1";
 
-/// The safety and usage caution printed on every sheet.
-pub const CAUTION: &str = "A swinging test article stores energy and can injure: guard the swing \
-envelope so nobody can reach into it, keep hands clear of the release mechanism while it is armed, \
-check that the pivot, its fasteners and the article's attachment are rated for the article's \
-weight and the loads of a large release angle, and stop the swing by hand only at low amplitude. \
-These coefficients describe this article on this rig under the stated assumptions; they are not a \
-certification. Where a result feeds a design, a safety case or an approval, the local codes, \
-standards and the judgement of a licensed or otherwise qualified engineer take precedence over \
-this sheet.";
+/// The safety and usage caution printed on every sheet: the one text of [`crate::safety`].
+pub const CAUTION: &str = crate::safety::SAFETY;
 
 /// The modelling assumptions and limits printed on every sheet.
 pub fn assumptions() -> Vec<String> {
@@ -303,17 +297,44 @@ pub fn coefficient_rows(
             "equivalent simple-pendulum length",
             &p.equivalent_length,
         ));
-        if let Some(v) = &p.damping[Term::Viscous.index()] {
-            rows.push(q("viscous", "c", "viscous damping coefficient", v));
+        for t in Term::ALL {
+            if let Some(v) = &p.damping[t.index()] {
+                rows.push(q(t.name(), physical_symbol(t), physical_quantity(t), v));
+            }
         }
-        if let Some(v) = &p.damping[Term::Coulomb.index()] {
-            rows.push(q("coulomb", "τc", "Coulomb friction torque", v));
+        if let Some(v) = &p.damping_ratio {
+            rows.push(q("damping_ratio", "ζ", "viscous damping ratio b1/(2ωn)", v));
         }
-        if let Some(v) = &p.damping[Term::Quadratic.index()] {
-            rows.push(q("quadratic", "cq", "quadratic damping coefficient", v));
+        if let Some(v) = &p.log_decrement {
+            rows.push(q("log_decrement", "δ", "logarithmic decrement of the viscous term", v));
+        }
+        if let Some(v) = &p.quality_factor {
+            rows.push(q("quality_factor", "Q", "quality factor 1/(2ζ)", v));
         }
     }
     rows
+}
+
+/// Symbol of a damping term's physical coefficient (the per-unit-inertia one times J).
+fn physical_symbol(t: crate::model::Term) -> &'static str {
+    use crate::model::Term;
+    match t {
+        Term::Viscous => "c",
+        Term::Coulomb => "τc",
+        Term::Quadratic => "cq",
+        Term::Presliding => "kσ",
+    }
+}
+
+/// What a damping term's physical coefficient is, in words.
+fn physical_quantity(t: crate::model::Term) -> &'static str {
+    use crate::model::Term;
+    match t {
+        Term::Viscous => "viscous damping coefficient",
+        Term::Coulomb => "Coulomb friction torque",
+        Term::Quadratic => "quadratic damping coefficient",
+        Term::Presliding => "pre-sliding friction stiffness",
+    }
 }
 
 /// Format a value and its uncertainty alike: the uncertainty to two significant digits and the
@@ -624,8 +645,12 @@ fn view_name(v: &str) -> &'static str {
     if v == "physical" { "physical" } else { "per unit inertia" }
 }
 
-fn g3(v: f64) -> String {
-    crate::report::table::num(v, 4)
+fn view_title(v: &str) -> &'static str {
+    if v == "physical" {
+        "Physical, with the stated mass, pivot-to-CG distance and gravity"
+    } else {
+        "Per unit inertia (identified by the free decay alone)"
+    }
 }
 
 /// The identity block of the sheet, (label, text) in order, shared by the HTML and Markdown
@@ -633,31 +658,42 @@ fn g3(v: f64) -> String {
 fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
     let a = &doc.article;
     let mut v: Vec<(&'static str, String)> = Vec::new();
+    if a.name.is_empty() {
+        v.push(("Article", "not named (give --article NAME, or use an article file)".into()));
+    } else if a.id != a.name && !a.id.is_empty() {
+        v.push(("Article id", a.id.clone()));
+    }
     if let Some(r) = &a.rig {
         v.push(("Rig", r.clone()));
     }
     if let Some(o) = &a.operator {
         v.push(("Operator", o.clone()));
     }
+    // Mass properties on one line: mass, pivot-to-CG distance (each with its standard
+    // uncertainty) and gravity.
+    let mut basis = Vec::new();
     if let Some(m) = &a.mass {
-        v.push(("Mass", crate::report::table::stated(m.value, m.std, "kg", "").trim().to_string()));
+        basis.push(format!(
+            "mass {}",
+            crate::report::table::stated(m.value, m.std, "kg", "").trim()
+        ));
     }
     if let Some(d) = &a.pivot_to_cg {
-        v.push((
-            "Pivot to CG",
-            crate::report::table::stated(d.value, d.std, "m", "").trim().to_string(),
+        basis.push(format!(
+            "pivot to CG {}",
+            crate::report::table::stated(d.value, d.std, "m", "").trim()
         ));
     }
     if let Some(g) = &a.gravity {
-        v.push(("Gravity", g.clone()));
+        basis.push(typeset::unit(g));
+    }
+    if !basis.is_empty() {
+        v.push(("Mass properties", basis.join("; ")));
     }
     for r in &doc.runs {
         v.push((
             "Run",
-            format!(
-                "{} — {} ({} samples fitted; {:.2} s logged)",
-                r.label, r.file, r.samples, r.duration_s
-            ),
+            format!("{} — {} samples fitted; {:.2} s logged", run_name(r), r.samples, r.duration_s),
         ));
     }
     let how = if doc.damping.choice == "auto" {
@@ -666,13 +702,6 @@ fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
         "as requested"
     };
     v.push(("Damping fitted", format!("{} ({how})", doc.damping.fitted.join(" + "))));
-    v.push((
-        "Generated",
-        format!(
-            "{} by {} {}",
-            doc.provenance.generated_utc, doc.provenance.tool, doc.provenance.version
-        ),
-    ));
     if let Some(n) = &a.notes {
         v.push(("Notes", n.clone()));
     }
@@ -683,7 +712,11 @@ fn identity_fields(doc: &wire::SheetDoc) -> Vec<(&'static str, String)> {
 pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
     let mut s = String::new();
     let a = &doc.article;
-    let _ = writeln!(s, "# Coefficient sheet: {} ({})\n", a.name, a.id);
+    if a.name.is_empty() {
+        let _ = writeln!(s, "# Coefficient sheet\n");
+    } else {
+        let _ = writeln!(s, "# Coefficient sheet: {}\n", a.name);
+    }
     if !a.description.is_empty() {
         let _ = writeln!(s, "{}\n", a.description);
     }
@@ -692,20 +725,20 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         let _ = writeln!(s, "- **{k}:** {v}");
     }
     let _ = writeln!(s, "\n## Coefficients\n");
-    let _ = writeln!(s, "| view | quantity | symbol | value | u (k=1) | U (k=2) | unit |");
+    let _ = writeln!(s, "| view | quantity | symbol | value | u | U (k = 2) | unit |");
     let _ = writeln!(s, "|---|---|---|---:|---:|---:|---|");
     for r in &doc.coefficients {
-        let (v, u) = format_pair(r.value, r.std);
-        let (_, big) = format_pair(r.value, r.expanded_k2);
+        let (v, u, big) = coefficient_cells(r);
         let _ = writeln!(
             s,
             "| {} | {} | {} | {v} | {u} | {big} | {} |",
             view_name(r.view),
             r.quantity,
             r.symbol,
-            r.unit
+            typeset::unit(r.unit)
         );
     }
+    let _ = writeln!(s, "\n**Result.** {}", result_sentences(doc));
     if let Some(c) = &doc.comparison {
         let _ = writeln!(s, "\n## Model verdict\n\n{}\n", c.verdict);
         let _ = writeln!(s, "Measured envelope law: {}.\n", c.envelope_law);
@@ -715,15 +748,24 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         );
         let _ = writeln!(s, "|---|---|---:|---:|---:|---:|---|---|");
         for e in &c.candidates {
+            if let (false, why) = (e.converged, &e.error) {
+                let why = why.as_deref().unwrap_or("the fit did not converge");
+                let _ = writeln!(
+                    s,
+                    "| {} | failed: {} | | | | | | |",
+                    e.damping,
+                    why.replace('|', "/")
+                );
+                continue;
+            }
             let _ = writeln!(
                 s,
-                "| {} | {} | {} | {} | {} | {} | {} | {} |",
+                "| {} | yes | {} | {} | {} | {} | {} | {} |",
                 e.damping,
-                if e.converged { "yes" } else { "no" },
-                g3(e.rms_residual),
-                g3(e.aic),
-                g3(e.bic),
-                g3(e.ljung_box_p),
+                typeset::num(e.rms_residual, 3),
+                typeset::num(e.aic, 6),
+                typeset::num(e.bic, 6),
+                typeset::p_value(e.ljung_box_p),
                 yes(e.all_significant),
                 yes(e.explains_decay)
             );
@@ -734,10 +776,10 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
     let _ = writeln!(
         s,
         "RMS residual {} rad over {} samples ({} degrees of freedom); condition number {}; {} iterations; intervals: {}.\n",
-        g3(q.rms_residual),
+        typeset::num(q.rms_residual, 3),
         q.samples,
         q.dof,
-        g3(q.condition_number),
+        typeset::num(q.condition_number, 3),
         q.iterations_total,
         q.interval_method
     );
@@ -748,10 +790,10 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
             s,
             "| {} | {} | {} | {} | {} |",
             r.file,
-            g3(r.rms_residual),
-            g3(r.noise_floor),
-            g3(r.ratio_to_noise),
-            g3(r.ljung_box_p)
+            typeset::num(r.rms_residual, 3),
+            typeset::num(r.noise_floor, 3),
+            typeset::num(r.ratio_to_noise, 3),
+            typeset::p_value(r.ljung_box_p)
         );
     }
     for f in &q.flags {
@@ -797,30 +839,41 @@ pub fn esc(s: &str) -> String {
 }
 
 const CSS: &str = "
-@page { size: A4; margin: 14mm 12mm; }
+@page { size: A4; margin: 12mm 12mm; }
 * { box-sizing: border-box; }
-body { font-family: 'Noto Sans', 'DejaVu Sans', Arial, sans-serif; font-size: 10.5pt; color: #111;
-       max-width: 190mm; margin: 0 auto; padding: 8mm 4mm; line-height: 1.35; }
-h1 { font-size: 17pt; margin: 0 0 2mm; }
-h2 { font-size: 12.5pt; margin: 6mm 0 2mm; border-bottom: 1px solid #999; padding-bottom: 1mm; }
-table { border-collapse: collapse; width: 100%; margin: 1mm 0 3mm; font-size: 9.5pt; }
-th, td { border: 1px solid #bbb; padding: 1mm 1.8mm; text-align: left; vertical-align: top; }
+body { font-family: 'Noto Sans', 'DejaVu Sans', Arial, sans-serif; font-size: 10pt; color: #111;
+       max-width: 190mm; margin: 0 auto; padding: 6mm 4mm; line-height: 1.3; }
+h1 { font-size: 16pt; margin: 0 0 1mm; }
+h2 { font-size: 12pt; margin: 4mm 0 1.5mm; border-bottom: 1px solid #999; padding-bottom: 0.8mm; }
+p { margin: 1mm 0 2mm; }
+p.desc { margin: 0 0 1.5mm; }
+p.note { font-size: 8.5pt; color: #333; }
+p.verdict { font-size: 10.5pt; }
+table { border-collapse: collapse; width: 100%; margin: 1mm 0 1.5mm; font-size: 8.5pt; }
+th, td { border: 1px solid #bbb; padding: 0.15mm 1.6mm; text-align: left; vertical-align: top; }
 th { background: #eee; }
-tr.why td { font-size: 8.5pt; color: #444; border-top: none; padding-left: 6mm; }
+tr.view th { background: #f6f6f6; font-style: italic; font-weight: normal; }
+tr.failed td { color: #555; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-dl.ident { display: grid; grid-template-columns: max-content 1fr; gap: 0.6mm 4mm; margin: 0; }
+table.signoff td { height: 8mm; width: 22%; }
+table.signoff th { width: 3%; white-space: nowrap; vertical-align: middle; }
+dl.ident { display: grid; grid-template-columns: max-content 1fr; gap: 0.3mm 4mm; margin: 0; font-size: 9pt; }
 dl.ident dt { font-weight: bold; }
 dl.ident dd { margin: 0; }
-figure { margin: 3mm 0 5mm; break-inside: avoid; page-break-inside: avoid; }
+figure { margin: 2mm 0 3mm; break-inside: avoid; page-break-inside: avoid; }
 figure svg { width: 100%; height: auto; display: block; border: 1px solid #ddd; }
-figcaption { font-size: 9pt; color: #333; margin-top: 1mm; }
+figure.main svg { width: auto; max-width: 100%; height: 50mm; margin: 0 auto; }
+div.grid { display: grid; grid-template-columns: 1fr 1fr; gap: 0 4mm; }
+div.grid figure { margin: 1mm 0 2mm; }
+figcaption { font-size: 8pt; color: #333; margin-top: 0.5mm; }
 .caution { border: 2px solid #b00; background: #fff4f4; padding: 2mm 3mm; }
-.warn { color: #8a4b00; }
-code, .mono { font-family: 'DejaVu Sans Mono', monospace; font-size: 8.5pt; word-break: break-all; }
+.warn { color: #8a4b00; font-size: 8pt; }
+code, .mono { font-family: 'DejaVu Sans Mono', monospace; font-size: 8pt; word-break: break-all; }
 @media print {
   body { max-width: none; padding: 0; }
   h2 { break-after: avoid; page-break-after: avoid; }
-  table, .caution { break-inside: avoid; page-break-inside: avoid; }
+  table, figure, dl, .caution, section#signoff { break-inside: avoid; page-break-inside: avoid; }
+  section.appendix.first { break-before: page; page-break-before: always; }
   a { color: inherit; text-decoration: none; }
 }
 ";
@@ -845,28 +898,85 @@ fn responsive_svg(svg: &str) -> String {
     }
 }
 
+/// The first sentence of a verdict (up to the first ". "), for page one; the whole verdict is in
+/// the evidence appendix.
+pub fn first_sentence(text: &str) -> &str {
+    text.find(". ").map_or(text, |i| &text[..=i])
+}
+
+/// The run as named on the sheet: its label, and the file only when it differs from the label.
+fn run_name(r: &wire::Run) -> String {
+    // The file by its name only (the full path is in the provenance appendix).
+    let base = Path::new(&r.file)
+        .file_name()
+        .map_or_else(|| r.file.clone(), |n| n.to_string_lossy().into_owned());
+    if r.label == r.file || base == r.label { base } else { format!("{} ({base})", r.label) }
+}
+
+/// The result in one or two sentences: the damping fitted and why.
+pub fn result_sentences(doc: &wire::SheetDoc) -> String {
+    let set = doc.damping.fitted.join(" + ");
+    let damping = damping_sentence(doc, &set);
+    format!("{} {damping}", doc.fit.adequacy.summary.trim_end())
+}
+
+/// How the damping set was chosen, in one sentence.
+fn damping_sentence(doc: &wire::SheetDoc, set: &str) -> String {
+    match &doc.comparison {
+        Some(c) => format!(
+            "Damping {set}, chosen by comparing {} candidate sets: {}",
+            c.candidates.len(),
+            first_sentence(&c.verdict)
+        ),
+        None => format!(
+            "Damping {set}, fitted as requested; no comparison of candidate sets was run (damping \"auto\" or --compare runs one)."
+        ),
+    }
+}
+
+/// The value, u and U cells of a coefficient row, typeset (GUM: U to two significant digits,
+/// value and u to the same decimal place).
+fn coefficient_cells(r: &CoefficientRow) -> (String, String, String) {
+    let (v, big) = format_pair(r.value, r.expanded_k2);
+    let (_, u) = format_pair(r.value, r.std);
+    (typeset::minus(&v), typeset::minus(&u), typeset::minus(&big))
+}
+
+fn figure(h: &mut String, p: &wire::Plot, svg: &str, class: &str) {
+    let _ = writeln!(
+        h,
+        "<figure id=\"plot-{}\" class=\"{class}\">\n{}\n<figcaption>{} (files {}, {})</figcaption>\n</figure>",
+        esc(&p.stem),
+        responsive_svg(svg),
+        esc(&p.title),
+        esc(&p.svg),
+        esc(&p.png)
+    );
+}
+
+/// The stem of the plot on page one: the first cycles of the first run, where measured samples
+/// and model can both be seen.
+pub const PAGE_ONE_PLOT: &str = "run1_first_cycles";
+
 /// The sheet as one self-contained HTML page; `svgs` are the rendered charts, in `doc.plots` order.
+/// Page one holds the result (identity, coefficients, verdict, the fit plot, sign-off); the rest
+/// follows as appendices, the first starting a new printed page.
 pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
     let mut h = String::new();
     let a = &doc.article;
+    let title = if a.name.is_empty() {
+        "Coefficient sheet".to_string()
+    } else {
+        format!("Coefficient sheet: {}", a.name)
+    };
     let _ = write!(
         h,
-        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>Coefficient sheet: {} ({})</title>\n<style>{CSS}</style>\n</head>\n<body>\n",
-        esc(&a.name),
-        esc(&a.id)
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{}</title>\n<style>{CSS}</style>\n</head>\n<body>\n<main id=\"page-one\">\n",
+        esc(&title)
     );
-    let id_tag = if a.id == a.name {
-        String::new()
-    } else {
-        format!(" <span class=\"mono\">{}</span>", esc(&a.id))
-    };
-    let _ = writeln!(
-        h,
-        "<header id=\"identity\">\n<h1>Coefficient sheet: {}{id_tag}</h1>",
-        esc(&a.name)
-    );
+    let _ = writeln!(h, "<header id=\"identity\">\n<h1>{}</h1>", esc(&title));
     if !a.description.is_empty() {
-        let _ = writeln!(h, "<p>{}</p>", esc(&a.description));
+        let _ = writeln!(h, "<p class=\"desc\">{}</p>", esc(&a.description));
     }
     let _ = writeln!(h, "<dl class=\"ident\">");
     for (k, v) in identity_fields(doc) {
@@ -877,85 +987,124 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
     let _ = writeln!(h, "<section id=\"coefficients\">\n<h2>Coefficients</h2>");
     let _ = writeln!(
         h,
-        "<table class=\"coefficients\">\n<thead><tr><th>view</th><th>quantity</th><th>symbol</th><th>value</th><th>u (k=1)</th><th>U (k=2)</th><th>unit</th></tr></thead>\n<tbody>"
+        "<table class=\"coefficients\">\n<thead><tr><th>quantity</th><th>symbol</th><th>value</th><th>u</th><th>U (k = 2)</th><th>unit</th></tr></thead>\n<tbody>"
     );
+    let mut view = "";
     for r in &doc.coefficients {
-        let (v, u) = format_pair(r.value, r.std);
-        let (_, big) = format_pair(r.value, r.expanded_k2);
+        if r.view != view {
+            view = r.view;
+            let _ =
+                writeln!(h, "<tr class=\"view\"><th colspan=\"6\">{}</th></tr>", view_title(view));
+        }
+        let (v, u, big) = coefficient_cells(r);
         let _ = writeln!(
             h,
-            "<tr data-key=\"{}:{}\"><td>{}</td><td>{}</td><td>{}</td><td class=\"num\">{v}</td><td class=\"num\">{u}</td><td class=\"num\">{big}</td><td>{}</td></tr>",
+            "<tr data-key=\"{}:{}\"><td>{}</td><td>{}</td><td class=\"num\">{v}</td><td class=\"num\">{u}</td><td class=\"num\">{big}</td><td>{}</td></tr>",
             r.view,
             r.key,
-            view_name(r.view),
             esc(r.quantity),
             esc(r.symbol),
-            esc(r.unit)
+            esc(&typeset::unit(r.unit))
         );
     }
     let _ = writeln!(
         h,
-        "</tbody>\n</table>\n<p>u: combined standard uncertainty; U = 2u: expanded uncertainty, coverage factor k = 2 (about 95 % for a normal distribution).</p>\n</section>"
+        "</tbody>\n</table>\n<p class=\"note\">u: combined standard uncertainty; U = 2u: expanded uncertainty, coverage factor k = 2 (about 95 % for a normal distribution); values rounded to the decimal place of U (two significant digits of U). Full precision in sheet.json.</p>\n</section>"
     );
 
-    let _ = writeln!(h, "<section id=\"verdict\">\n<h2>Model verdict and evidence</h2>");
+    let _ = writeln!(h, "<section id=\"verdict\">\n<h2>Result</h2>");
+    let _ = writeln!(
+        h,
+        "<p class=\"verdict\">{}</p>",
+        typeset::code_spans_html(&result_sentences(doc))
+    );
+    for f in &doc.quality.flags {
+        let _ = writeln!(h, "<p class=\"warn\">Warning: {}</p>", typeset::code_spans_html(f));
+    }
+    let _ = writeln!(h, "</section>");
+
+    let mut page_one_done = false;
+    if let Some((p, svg)) = doc.plots.iter().zip(svgs).find(|(p, _)| p.stem == PAGE_ONE_PLOT) {
+        figure(&mut h, p, svg, "main");
+        page_one_done = true;
+    }
+    let _ = writeln!(
+        h,
+        "<section id=\"signoff\">\n<table class=\"signoff\">\n<tbody>\n<tr><th>performed by</th><td>{}</td><th>date</th><td></td><th>checked by</th><td></td><th>date</th><td></td></tr>\n</tbody>\n</table>\n</section>\n</main>",
+        esc(a.operator.as_deref().unwrap_or(""))
+    );
+
+    let _ = writeln!(
+        h,
+        "<section id=\"evidence\" class=\"appendix first\">\n<h2>Appendix A. Evidence per candidate damping set</h2>"
+    );
     match &doc.comparison {
         Some(c) => {
             let _ = writeln!(
                 h,
                 "<p>{}</p>\n<p>Measured envelope law: {}.</p>",
-                esc(&c.verdict),
+                typeset::code_spans_html(&c.verdict),
                 esc(c.envelope_law)
             );
             let _ = writeln!(
                 h,
-                "<table class=\"candidates\">\n<thead><tr><th>damping</th><th>converged</th><th>RMS [rad]</th><th>AIC</th><th>BIC</th><th>Ljung–Box p</th><th>all significant</th><th>explains decay</th></tr></thead>\n<tbody>"
+                "<table class=\"candidates\">\n<thead><tr><th>damping</th><th>RMS residual [rad]</th><th>AIC</th><th>BIC</th><th>Ljung–Box p</th><th>all terms significant</th><th>explains decay</th></tr></thead>\n<tbody>"
             );
             for e in &c.candidates {
                 let chosen = c.best.as_deref() == Some(e.damping.as_str());
-                let _ = writeln!(
-                    h,
-                    "<tr><td>{}{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td></tr>",
+                let name = format!(
+                    "{}{}",
                     esc(&e.damping).replace('+', "+<wbr>"),
-                    if chosen { " <b>(chosen)</b>" } else { "" },
-                    yes(e.converged),
-                    g3(e.rms_residual),
-                    g3(e.aic),
-                    g3(e.bic),
-                    g3(e.ljung_box_p),
-                    yes(e.all_significant),
-                    yes(e.explains_decay)
+                    if chosen { " <b>(chosen)</b>" } else { "" }
                 );
-                if let Some(m) = &e.error {
-                    let _ = writeln!(
-                        h,
-                        "<tr class=\"why\"><td colspan=\"8\">{}: {}</td></tr>",
-                        esc(&e.damping),
-                        esc(m)
-                    );
+                match (&e.error, e.converged) {
+                    (Some(m), _) => {
+                        let _ = writeln!(
+                            h,
+                            "<tr class=\"failed\"><td>{name}</td><td colspan=\"6\">failed: {}</td></tr>",
+                            typeset::code_spans_html(m)
+                        );
+                    }
+                    (None, false) => {
+                        let _ = writeln!(
+                            h,
+                            "<tr class=\"failed\"><td>{name}</td><td colspan=\"6\">failed: the fit did not converge</td></tr>"
+                        );
+                    }
+                    (None, true) => {
+                        let _ = writeln!(
+                            h,
+                            "<tr><td>{name}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td></tr>",
+                            typeset::num(e.rms_residual, 3),
+                            typeset::num(e.aic, 6),
+                            typeset::num(e.bic, 6),
+                            typeset::p_value(e.ljung_box_p),
+                            yes(e.all_significant),
+                            yes(e.explains_decay)
+                        );
+                    }
                 }
             }
             let _ = writeln!(h, "</tbody>\n</table>");
         }
         None => {
-            let _ = writeln!(
-                h,
-                "<p>The damping set {} was fitted as requested; no comparison of candidate sets was run (use damping \"auto\" or --compare for one).</p>",
-                esc(&doc.damping.fitted.join(" + "))
-            );
+            let _ = writeln!(h, "<p>{}</p>", esc(&result_sentences(doc)));
         }
     }
     let _ = writeln!(h, "</section>");
 
     let q = &doc.quality;
-    let _ = writeln!(h, "<section id=\"quality\">\n<h2>Fit quality</h2>");
+    let _ = writeln!(
+        h,
+        "<section id=\"quality\" class=\"appendix\">\n<h2>Appendix B. Fit quality</h2>"
+    );
     let _ = writeln!(
         h,
         "<p>RMS residual {} rad over {} samples ({} degrees of freedom); condition number of the scaled normal equations {}; {} iterations; intervals: {}.</p>",
-        g3(q.rms_residual),
+        typeset::num(q.rms_residual, 3),
         q.samples,
         q.dof,
-        g3(q.condition_number),
+        typeset::num(q.condition_number, 3),
         q.iterations_total,
         esc(&q.interval_method)
     );
@@ -968,40 +1117,40 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
             h,
             "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
             esc(&r.file),
-            g3(r.rms_residual),
-            g3(r.noise_floor),
-            g3(r.ratio_to_noise),
-            g3(r.ljung_box_p)
+            typeset::num(r.rms_residual, 3),
+            typeset::num(r.noise_floor, 3),
+            typeset::num(r.ratio_to_noise, 3),
+            typeset::p_value(r.ljung_box_p)
         );
     }
-    let _ = writeln!(h, "</tbody>\n</table>");
-    for f in &q.flags {
-        let _ = writeln!(h, "<p class=\"warn\">Warning: {}</p>", esc(f));
-    }
-    let _ = writeln!(h, "</section>");
+    let _ = writeln!(h, "</tbody>\n</table>\n</section>");
 
-    let _ = writeln!(h, "<section id=\"plots\">\n<h2>Plots</h2>");
+    let _ = writeln!(
+        h,
+        "<section id=\"plots\" class=\"appendix\">\n<h2>Appendix C. Plots per run</h2>\n<div class=\"grid\">"
+    );
     for (p, svg) in doc.plots.iter().zip(svgs) {
-        let _ = writeln!(
-            h,
-            "<figure id=\"plot-{}\">\n{}\n<figcaption>{} (files {}, {})</figcaption>\n</figure>",
-            esc(&p.stem),
-            responsive_svg(svg),
-            esc(&p.title),
-            esc(&p.svg),
-            esc(&p.png)
-        );
+        if page_one_done && p.stem == PAGE_ONE_PLOT {
+            continue;
+        }
+        figure(&mut h, p, svg, "half");
     }
-    let _ = writeln!(h, "</section>");
+    let _ = writeln!(h, "</div>\n</section>");
 
-    let _ = writeln!(h, "<section id=\"assumptions\">\n<h2>Assumptions and limits</h2>\n<ul>");
+    let _ = writeln!(
+        h,
+        "<section id=\"assumptions\" class=\"appendix\">\n<h2>Appendix D. Assumptions and limits</h2>\n<ul>"
+    );
     for x in &doc.assumptions {
         let _ = writeln!(h, "<li>{}</li>", esc(x));
     }
     let _ = writeln!(h, "</ul>\n</section>");
 
     let p = &doc.provenance;
-    let _ = writeln!(h, "<section id=\"provenance\">\n<h2>Provenance</h2>");
+    let _ = writeln!(
+        h,
+        "<section id=\"provenance\" class=\"appendix\">\n<h2>Appendix E. Provenance</h2>"
+    );
     let _ = writeln!(
         h,
         "<p>{} {}, generated {} (UTC).</p>\n<p>Command: <code>{}</code></p>",
@@ -1027,7 +1176,7 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
     let _ = writeln!(h, "</tbody>\n</table>\n</section>");
     let _ = writeln!(
         h,
-        "<section id=\"caution\">\n<h2>Safety and use</h2>\n<p class=\"caution\">{}</p>\n</section>\n</body>\n</html>",
+        "<section id=\"caution\" class=\"appendix\">\n<h2>Appendix F. Safety and use</h2>\n<p class=\"caution\">{}</p>\n</section>\n</body>\n</html>",
         esc(doc.caution)
     );
     h
@@ -1051,6 +1200,9 @@ pub enum SheetError {
     /// A plot could not be drawn.
     #[error(transparent)]
     Plot(#[from] plot::PlotError),
+    /// The PDF could not be printed.
+    #[error(transparent)]
+    Pdf(#[from] crate::report::pdf::PdfError),
 }
 
 fn io_err(path: &Path, what: &str, e: std::io::Error) -> SheetError {
@@ -1120,10 +1272,14 @@ pub fn render_into(dir: &Path, input: &SheetInput<'_>) -> Result<Vec<String>, Sh
     Ok(files)
 }
 
-/// Write the sheet for `input` to `dir`: built whole in a temporary directory beside `dir`, then
-/// renamed into place. An existing `dir` is refused unless `force`, and then replaced whole. On
-/// any failure the temporary directory is removed and `dir` is left as it was.
-pub fn write_sheet(dir: &Path, force: bool, input: &SheetInput<'_>) -> Result<Written, SheetError> {
+/// Like [`write_sheet`], and with `browser` also `sheet.pdf`, printed from the finished page in
+/// the temporary directory, so the PDF is installed with the rest or not at all.
+pub fn write_sheet_with_pdf(
+    dir: &Path,
+    force: bool,
+    input: &SheetInput<'_>,
+    browser: Option<&Path>,
+) -> Result<Written, SheetError> {
     check_destination(dir, force)?;
     let tmp = sibling(dir, "partial");
     if tmp.exists() {
@@ -1132,7 +1288,11 @@ pub fn write_sheet(dir: &Path, force: bool, input: &SheetInput<'_>) -> Result<Wr
     }
     fs::create_dir_all(&tmp)
         .map_err(|e| io_err(&tmp, "cannot create the temporary directory", e))?;
-    let result = render_into(&tmp, input).and_then(|files| {
+    let result = render_into(&tmp, input).and_then(|mut files| {
+        if let Some(b) = browser {
+            crate::report::pdf::print_to_pdf(b, &tmp.join("sheet.html"), &tmp.join("sheet.pdf"))?;
+            files.push("sheet.pdf".into());
+        }
         install(&tmp, dir, force)?;
         Ok(Written { dir: dir.to_path_buf(), files })
     });
@@ -1140,6 +1300,13 @@ pub fn write_sheet(dir: &Path, force: bool, input: &SheetInput<'_>) -> Result<Wr
         let _ = fs::remove_dir_all(&tmp);
     }
     result
+}
+
+/// Write the sheet for `input` to `dir`: built whole in a temporary directory beside `dir`, then
+/// renamed into place. An existing `dir` is refused unless `force`, and then replaced whole. On
+/// any failure the temporary directory is removed and `dir` is left as it was.
+pub fn write_sheet(dir: &Path, force: bool, input: &SheetInput<'_>) -> Result<Written, SheetError> {
+    write_sheet_with_pdf(dir, force, input, None)
 }
 
 /// Move the complete `tmp` to `dir`, replacing an existing `dir` only with `force`.

@@ -101,3 +101,46 @@ pub fn check_in_browser(sheet_dir: &Path, screenshot: &Path, n_plots: usize) {
     assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
     assert!(png.len() > 20_000, "screenshot has content ({} bytes)", png.len());
 }
+
+/// The poppler tools that read a printed PDF back (`pdftotext`, `pdfinfo`), or `false` (after a
+/// loud notice) when they are missing and no browser check is required; panics when
+/// `SWINGFIT_REQUIRE_BROWSER` is set and they are missing (`.ci/run` installs poppler-utils).
+pub fn pdf_tools(test: &str) -> bool {
+    let present = ["/usr/bin/pdftotext", "/usr/bin/pdfinfo"].iter().all(|p| Path::new(p).exists());
+    if present {
+        return true;
+    }
+    let required = std::env::var_os("SWINGFIT_REQUIRE_BROWSER").is_some_and(|v| v != "0");
+    assert!(
+        !required,
+        "pdftotext/pdfinfo are missing and SWINGFIT_REQUIRE_BROWSER is set: apt-get install -y poppler-utils (as .ci/run does)"
+    );
+    use std::io::Write as _;
+    let _ = writeln!(
+        std::io::stderr(),
+        "SKIPPED {test}: pdftotext/pdfinfo (poppler-utils) are not installed, so the printed sheet was NOT read back"
+    );
+    false
+}
+
+/// Pages of a PDF (pdfinfo).
+pub fn pdf_pages(pdf: &Path) -> usize {
+    let out = std::process::Command::new("/usr/bin/pdfinfo").arg(pdf).output().expect("pdfinfo");
+    assert!(out.status.success(), "pdfinfo {}", pdf.display());
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().expect("page count")))
+        .expect("Pages line")
+}
+
+/// Text of pages `first..=last` of a PDF (pdftotext, reading order).
+pub fn pdf_text(pdf: &Path, first: usize, last: usize) -> String {
+    let out = std::process::Command::new("/usr/bin/pdftotext")
+        .args(["-f", &first.to_string(), "-l", &last.to_string()])
+        .arg(pdf)
+        .arg("-")
+        .output()
+        .expect("pdftotext");
+    assert!(out.status.success(), "pdftotext {}", pdf.display());
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}

@@ -47,7 +47,7 @@ fn sheet_of_a_demo_log_has_every_part_and_is_reproducible() {
         "run1_first_cycles",
         "run1_last_cycles",
         "run1_phase",
-        "residuals",
+        "run1_residuals",
         "run1_envelope",
         "period_amplitude",
     ] {
@@ -236,7 +236,9 @@ fn fit_plot_writes_the_overlay() {
     }
     let text = std::fs::read_to_string(&svg).expect("svg");
     assert!(
-        text.contains("time [s]") && text.contains("angle [deg]") && text.contains("fitted model")
+        text.contains("time [s]")
+            && text.contains("angle from rest [deg]")
+            && text.contains("fitted model")
     );
     assert_eq!(&std::fs::read(&png).expect("png")[..4], b"\x89PNG");
     let bad = swingfit()
@@ -247,4 +249,111 @@ fn fit_plot_writes_the_overlay() {
         .expect("runs");
     assert_eq!(bad.status.code(), Some(2));
     assert!(stderr_of(&bad).contains(".svg or .png"));
+}
+
+/// Whitespace collapsed, and Markdown quote markers dropped, so a wrapped quote compares equal.
+fn flat(text: &str) -> String {
+    text.lines()
+        .map(|l| l.trim_start().trim_start_matches('>'))
+        .collect::<Vec<_>>()
+        .join(" ")
+        .split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+#[test]
+fn one_safety_text_in_help_readme_and_sheet() {
+    let text = flat(swingfit::safety::SAFETY);
+    assert!(text.contains("Never touch, catch or stop a moving article by hand"));
+    let help = swingfit().arg("--help").output().expect("runs");
+    assert!(help.status.success());
+    assert!(flat(&String::from_utf8_lossy(&help.stdout)).contains(&text), "--help shows it");
+    let readme = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md"))
+        .expect("readme");
+    assert!(flat(&readme).contains(&text), "README quotes it word for word");
+    let dir = tempfile::tempdir().expect("tmp");
+    let out = dir.path().join("s");
+    let run = swingfit()
+        .arg("sheet")
+        .arg(demo_data("ba7_release15_deg.csv"))
+        .args(["--damping", "viscous,coulomb,quadratic", "--out"])
+        .arg(&out)
+        .output()
+        .expect("runs");
+    assert!(run.status.success(), "{}", stderr_of(&run));
+    let md = std::fs::read_to_string(out.join("sheet.md")).expect("md");
+    assert!(flat(&md).contains(&text), "the sheet carries it");
+    // No name given: the sheet says so, invents none, and names the run once.
+    let html = std::fs::read_to_string(out.join("sheet.html")).expect("html");
+    assert!(!html.contains("unnamed article") && html.contains("not named"));
+    assert_eq!(html.matches("ba7_release15_deg.csv —").count(), 1, "run named once");
+    assert!(!html.contains("ba7_release15_deg.csv ("), "no doubled run name");
+}
+
+/// The most pages the two-run demo sheet may print on (stated in docs/sheet.md).
+const DEMO_PAGE_LIMIT: usize = 4;
+
+#[test]
+fn sheet_pdf_of_the_demo_article_reads_right_in_print() {
+    let dir = tempfile::tempdir().expect("tmp");
+    let out = dir.path().join("ba7");
+    if crate::chromium::browser("sheet --pdf check").is_none()
+        || !crate::chromium::pdf_tools("sheet --pdf check")
+    {
+        return;
+    }
+    let run = swingfit()
+        .arg("sheet")
+        .arg(demo_data("ba7_article.toml"))
+        .arg("--pdf")
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .expect("runs");
+    assert!(run.status.success(), "{}", stderr_of(&run));
+    let pdf = out.join("sheet.pdf");
+    let pages = crate::chromium::pdf_pages(&pdf);
+    assert!((2..=DEMO_PAGE_LIMIT).contains(&pages), "{pages} pages");
+    if let Some(keep) = std::env::var_os("SWINGFIT_KEEP_PDF") {
+        std::fs::copy(&pdf, keep).expect("keep pdf");
+    }
+    // Page one is the result: coefficient table with unit symbols, the verdict, the sign-off.
+    let one = crate::chromium::pdf_text(&pdf, 1, 1);
+    for want in [
+        "Coefficients",
+        "moment of inertia about the pivot",
+        "kg·m²",
+        "N·m·s/rad",
+        "Result",
+        "chosen by comparing 7 candidate sets",
+        "explains the decay",
+        "performed by",
+        "checked by",
+    ] {
+        assert!(one.contains(want), "page one lacks {want:?}:\n{one}");
+    }
+    assert!(!one.contains("Appendix A"), "appendices start on a new page");
+    let all = crate::chromium::pdf_text(&pdf, 1, pages);
+    for bad in ["NaN", "*m^2", "kg*m", "`", "**", "|---", "unnamed article"] {
+        assert!(!all.contains(bad), "{bad:?} in the printed sheet");
+    }
+    assert!(all.contains("Appendix F. Safety and use"));
+}
+
+#[test]
+fn sheet_pdf_without_a_browser_is_refused_and_writes_nothing() {
+    let dir = tempfile::tempdir().expect("tmp");
+    let out = dir.path().join("s");
+    let run = swingfit()
+        .env("PATH", dir.path())
+        .arg("sheet")
+        .arg(demo_data("ba7_release15_deg.csv"))
+        .args(["--damping", "viscous", "--pdf", "--out"])
+        .arg(&out)
+        .output()
+        .expect("runs");
+    assert_eq!(run.status.code(), Some(2), "{}", stderr_of(&run));
+    assert!(stderr_of(&run).contains("apt-get install chromium"), "{}", stderr_of(&run));
+    assert_eq!(files(dir.path()), Vec::<String>::new(), "nothing written");
 }

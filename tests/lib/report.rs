@@ -125,9 +125,9 @@ fn physical() -> PhysicalCoefficients {
         equivalent_length: q(0.2321, 5e-5, "m"),
         damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None, None],
         period: q(0.9667, 1e-6, "s"),
-        damping_ratio: None,
-        log_decrement: None,
-        quality_factor: None,
+        damping_ratio: Some(q(0.004, 2e-6, "1")),
+        log_decrement: Some(q(0.02513, 1.3e-5, "1")),
+        quality_factor: Some(q(125.0, 0.06, "1")),
         gravity: Gravity::standard(),
         budgets: Vec::new(),
     }
@@ -280,12 +280,14 @@ fn overlay_windows_cover_first_and_last_cycles() {
         (last.series[0].points[0].0, last.series[0].points.last().map(|p| p.0).unwrap_or(0.0));
     assert_relative_eq!(t1 - t0, 3.0 * 2.0 * PI / OMEGA_N, epsilon = 2e-3);
     assert!(t1 > 28.0);
-    // Degrees on the y axis: the first measured sample is θeq + A in degrees.
+    // Degrees from the fitted equilibrium on the y axis: the first measured sample is A (the
+    // synthetic log's θeq + A, less θeq) in degrees.
     assert_relative_eq!(
         first.series[0].points[0].1,
-        (EQ + 0.5 + 2e-5 * 0.0) * 180.0 / PI,
+        (EQ + 0.5 + 2e-5 * 0.0 - EQ) * 180.0 / PI,
         max_relative = 1e-9
     );
+    assert_eq!(first.y_label, "angle from rest [deg]");
 }
 
 #[test]
@@ -389,7 +391,7 @@ fn sheet_holds_every_number_and_plot() {
         "run1_first_cycles",
         "run1_last_cycles",
         "run1_phase",
-        "residuals",
+        "run1_residuals",
         "run1_envelope",
         "period_amplitude",
     ] {
@@ -437,9 +439,26 @@ fn sheet_holds_every_number_and_plot() {
         html.contains("Test crank &lt;synthetic&gt;") && html.contains("&lt;check escaping&gt;")
     );
     assert!(html.contains("0.11975") && html.contains("0.00012"), "J and its U");
-    assert!(html.contains("licensed"), "safety caution");
+    assert!(html.contains("qualified engineers"), "safety caution");
+    // Typography and honesty: unit symbols, no NaN (the failed candidate says why), no raw
+    // Markdown, ζ, δ and Q on the sheet, page one before the first appendix.
+    assert!(html.contains("kg·m²") && html.contains("N·m·s/rad"), "unit symbols");
+    for bad in ["NaN", "*m^2", "kg*m", "`"] {
+        assert!(!html.contains(bad), "{bad} in the page");
+    }
+    assert!(html.contains("<td colspan=\"6\">failed: "), "failed candidate row says why");
+    for sym in ["<td>ζ</td>", "<td>δ</td>", "<td>Q</td>"] {
+        assert!(html.contains(sym), "{sym}");
+    }
+    let page_one = html.split("class=\"appendix first\"").next().expect("page one");
+    assert!(
+        page_one.contains("<table class=\"coefficients\">") && page_one.contains("id=\"verdict\"")
+    );
+    assert!(page_one.contains("performed by") && page_one.contains("checked by"));
+    assert!(page_one.contains("id=\"plot-run1_first_cycles\""), "the fit plot on page one");
     let md = std::fs::read_to_string(out.join("sheet.md")).expect("md");
-    assert!(md.contains("| physical | moment of inertia about the pivot | J | 0.119750 | 0.000061 | 0.00012 | kg*m^2 |"), "{md}");
+    assert!(md.contains("| physical | moment of inertia about the pivot | J | 0.11975 | 0.000061 | 0.00012 | kg·m² |"), "{md}");
+    assert!(!md.contains("NaN") && md.contains("failed: "), "{md}");
     assert!(md.contains("viscous explains the decay (RMS residual"), "{md}");
 }
 
@@ -592,4 +611,26 @@ fn sheet_renders_in_headless_chromium() {
     let shot = std::env::var_os("SWINGFIT_KEEP_SCREENSHOT")
         .map_or_else(|| dir.path().join("shot.png"), PathBuf::from);
     crate::chromium::check_in_browser(&out, &shot, 7);
+}
+
+#[test]
+fn units_numbers_and_p_values_are_typeset_for_the_page() {
+    use swingfit::report::typeset;
+    assert_eq!(typeset::unit("kg*m^2"), "kg·m²");
+    assert_eq!(typeset::unit("N*m*s/rad"), "N·m·s/rad");
+    assert_eq!(typeset::unit("rad/s^2"), "rad/s²");
+    assert_eq!(typeset::unit("N*m*s^2/rad^2"), "N·m·s²/rad²");
+    assert_eq!(typeset::unit("s^-1"), "s⁻¹");
+    assert_eq!(typeset::unit("standard gravity 9.80665 m/s^2"), "standard gravity 9.80665 m/s²");
+    assert_eq!(typeset::minus("-1.5e-7"), "−1.5e−7");
+    assert_eq!(typeset::num(f64::NAN, 3), "not available");
+    assert_eq!(typeset::num(-0.25, 3), "−0.250");
+    // A p-value that underflowed to 0 is a bound, never "0".
+    assert_eq!(typeset::p_value(0.0), "< 1e−300");
+    assert_eq!(typeset::p_value(0.1934), "0.193");
+    assert_eq!(typeset::p_value(f64::NAN), "not available");
+    assert_eq!(
+        typeset::code_spans_html("see `swingfit compare` <now>"),
+        "see <code>swingfit compare</code> &lt;now&gt;"
+    );
 }

@@ -1,0 +1,102 @@
+//! Typography of numbers and units for the coefficient sheet (HTML and Markdown): unit symbols
+//! (`kg·m²`, not `kg*m^2`), real minus signs, p-values that underflowed shown as a bound, and
+//! never a `NaN` on the page.
+//!
+//! The machine-readable outputs (JSON, the terminal table) keep the ASCII unit strings of
+//! [`crate::model`] and [`crate::physical`]; this module only decides how a reader sees them, so
+//! a new damping term with its own unit string is typeset without a change here.
+
+/// The smallest p-value printed as a number; a computed p below it (the upper-tail integral
+/// underflows near 1e-308) is shown as the bound `< 1e-300`.
+pub const P_FLOOR: f64 = 1e-300;
+
+/// An ASCII unit string typeset with symbols: `*` becomes the dot operator `·`, `^2`, `^3` and
+/// `^-1` become superscripts, `deg` the degree sign. Unknown text passes through unchanged.
+pub fn unit(ascii: &str) -> String {
+    let mut out = String::with_capacity(ascii.len() + 4);
+    let mut chars = ascii.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '*' => out.push('·'),
+            '^' => {
+                let mut exp = String::new();
+                while let Some(&d) = chars.peek() {
+                    if d.is_ascii_digit() || (d == '-' && exp.is_empty()) {
+                        exp.push(d);
+                        chars.next();
+                    } else {
+                        break;
+                    }
+                }
+                if exp.is_empty() {
+                    out.push('^');
+                }
+                for d in exp.chars() {
+                    out.push(superscript(d));
+                }
+            }
+            c => out.push(c),
+        }
+    }
+    out.replace("deg", "°")
+}
+
+fn superscript(d: char) -> char {
+    match d {
+        '0' => '⁰',
+        '1' => '¹',
+        '2' => '²',
+        '3' => '³',
+        '4' => '⁴',
+        '5' => '⁵',
+        '6' => '⁶',
+        '7' => '⁷',
+        '8' => '⁸',
+        '9' => '⁹',
+        '-' => '⁻',
+        other => other,
+    }
+}
+
+/// A formatted number with its hyphen-minus signs (leading and in exponents) replaced by the
+/// minus sign U+2212.
+pub fn minus(number: &str) -> String {
+    number.replace('-', "−")
+}
+
+/// A number for the page: `sig` significant digits with real minus signs, or "not available"
+/// when it is not finite (a quantity that could not be computed says so instead of `NaN`).
+pub fn num(v: f64, sig: usize) -> String {
+    if v.is_finite() { minus(&crate::report::table::num(v, sig)) } else { "not available".into() }
+}
+
+/// A p-value for the page: three significant digits, `< 1e-300` when it underflowed, "not
+/// available" when it could not be computed. Never `0`, never `NaN`.
+pub fn p_value(p: f64) -> String {
+    if !p.is_finite() || p < 0.0 {
+        "not available".into()
+    } else if p < P_FLOOR {
+        format!("< {}", minus("1e-300"))
+    } else {
+        num(p, 3)
+    }
+}
+
+/// Markdown-style inline code (`` `x` ``) in a plain message turned into HTML `<code>x</code>`,
+/// the rest escaped; an unpaired backtick is dropped, so no raw Markdown reaches the page.
+pub fn code_spans_html(text: &str) -> String {
+    let parts: Vec<&str> = text.split('`').collect();
+    let paired = parts.len() % 2 == 1;
+    let mut out = String::new();
+    for (i, part) in parts.iter().enumerate() {
+        let inside = i % 2 == 1 && (paired || i + 1 < parts.len());
+        if inside {
+            out.push_str("<code>");
+            out.push_str(&crate::report::sheet::esc(part));
+            out.push_str("</code>");
+        } else {
+            out.push_str(&crate::report::sheet::esc(part));
+        }
+    }
+    out
+}
