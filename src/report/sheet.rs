@@ -815,7 +815,8 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         let _ = writeln!(s, "- {} {} ({} bytes) sha256 {}", i.role, i.path, i.bytes, i.sha256);
     }
     let _ = writeln!(s, "\n## Safety and use\n\n{}", doc.caution);
-    s
+    // A figure that could not be computed reads "not available", never `NaN`.
+    s.replace("NaN", "not available")
 }
 
 fn yes(b: bool) -> &'static str {
@@ -1088,7 +1089,7 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
             let _ = writeln!(h, "</tbody>\n</table>");
         }
         None => {
-            let _ = writeln!(h, "<p>{}</p>", esc(&result_sentences(doc)));
+            let _ = writeln!(h, "<p>{}</p>", typeset::code_spans_html(&result_sentences(doc)));
         }
     }
     let _ = writeln!(h, "</section>");

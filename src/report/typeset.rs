@@ -83,8 +83,11 @@ pub fn p_value(p: f64) -> String {
 }
 
 /// Markdown-style inline code (`` `x` ``) in a plain message turned into HTML `<code>x</code>`,
-/// the rest escaped; an unpaired backtick is dropped, so no raw Markdown reaches the page.
+/// the rest escaped; an unpaired backtick is dropped, so no raw Markdown reaches the page; a
+/// `NaN` in the message reads "not available".
 pub fn code_spans_html(text: &str) -> String {
+    // A figure that could not be computed reads "not available", never `NaN`.
+    let text = text.replace("NaN", "not available");
     let parts: Vec<&str> = text.split('`').collect();
     let paired = parts.len() % 2 == 1;
     let mut out = String::new();
