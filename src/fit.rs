@@ -272,6 +272,16 @@ pub fn fit_surveyed(
     let start = x.clone();
     let period = 2.0 * std::f64::consts::PI / physics0.omega_n;
     let max_step = period / 250.0;
+    // Bounded work on any input: each integration takes about 250 steps per swing, and a fit
+    // takes at most `max_iter` iterations per continuation stage.
+    let swings =
+        logs.iter().map(|l| (l.times()[l.len() - 1] - l.times()[0]) / period).fold(0.0, f64::max);
+    if !(swings.is_finite() && swings <= MAX_SWINGS) {
+        return Err(FitError::Setup(format!(
+            "{}: the record holds {swings:.0} swings of the {period:.3e} s period found, more than the {MAX_SWINGS:.0} one fit integrates in bounded time; fit a window of it (--from/--to) or check the time unit",
+            logs.iter().map(|l| l.source()).collect::<Vec<_>>().join(", ")
+        )));
+    }
     let weights: Vec<Vec<f64>> = logs.iter().map(|l| problem::repeat_weights(l.angles())).collect();
     let ends: Vec<usize> = logs.iter().zip(surveys).map(|(l, s)| resolved_end(l, s)).collect();
 
@@ -341,6 +351,10 @@ pub fn fit_surveyed(
         horizon *= 3.0;
     }
 }
+
+/// Most swings (record length over the period) one fit integrates: about 5 million RK4 steps
+/// per integration, so that every fit ends in bounded time whatever the input.
+pub const MAX_SWINGS: f64 = 20_000.0;
 
 /// A swing smaller than this many encoder steps is not fitted (see [`resolved_end`]).
 pub const RESOLVED_STEPS: f64 = 10.0;

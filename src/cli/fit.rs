@@ -42,6 +42,9 @@ pub struct ArticleArgs {
     pub elevation: Option<f64>,
 }
 
+/// Most bootstrap refits accepted, so that a command ends in bounded time.
+pub const MAX_BOOTSTRAP: usize = 1000;
+
 /// Options of the estimator shared by `fit`, `compare`, `sheet` and `batch`.
 #[derive(Args, Debug, Clone)]
 pub struct EstimatorArgs {
@@ -72,6 +75,12 @@ impl EstimatorArgs {
     /// The library's fit options (damping: the given set, or the default set for `auto`,
     /// which the workflow replaces by the one it chooses).
     pub fn options(&self) -> Result<FitOptions, Failure> {
+        if self.bootstrap > MAX_BOOTSTRAP {
+            return Err(Failure::input(format!(
+                "--bootstrap {}: at most {MAX_BOOTSTRAP} refits (each is a whole fit; a few hundred already give the interval to a few per cent)",
+                self.bootstrap
+            )));
+        }
         let damping = match self.choice()? {
             DampingChoice::Terms(set) => set,
             DampingChoice::Auto => crate::fit::default_damping(),
@@ -218,7 +227,7 @@ pub fn choose_and_fit(logs: &[AngleLog], estimator: &EstimatorArgs) -> Result<Ch
 
 /// Run `fit`.
 pub fn run(args: &FitArgs) -> CmdResult {
-    args.estimator.choice()?;
+    args.estimator.options()?;
     if let Some(p) = &args.plot {
         plot::check_chart_path(p).map_err(Failure::input)?;
     }

@@ -149,6 +149,9 @@ fn listed_good_logs_exit_zero_and_jsonl_carries_every_coefficient() {
         assert_eq!(file_name(line["file"].as_str().expect("file")), name);
         assert_eq!(line["status"], "ok");
         assert!(line["error"].is_null());
+        // The damping is chosen per log by the comparison, with the fit's adequacy verdict.
+        assert_eq!(line["adequacy"], "explained", "{name}");
+        assert_eq!(line["damping"], serde_json::json!(["viscous", "coulomb"]), "{name}");
         let wn = &line["normalized"]["omega_n"];
         let t = truth[name]["omega_n"].as_f64().expect("truth");
         let v = wn["value"].as_f64().expect("value");

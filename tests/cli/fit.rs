@@ -226,3 +226,45 @@ fn an_uncertainty_without_its_value_is_refused() {
         assert!(out.get_output().stdout.is_empty());
     }
 }
+
+#[test]
+fn bootstrap_works_on_the_cut_encoder_log_and_on_a_joint_fit() {
+    // The README's demo: the encoder log's unresolved tail is not fitted, and only the fitted
+    // samples are resampled (issue 10: this used to fail with "only 0 of 8 refits converged").
+    let dir = tempfile::tempdir().unwrap();
+    for (name, logs) in [
+        ("encoder", vec![demo_data("ba7_release60_counts.csv")]),
+        ("joint", vec![demo_data("ba7_release60_counts.csv"), demo_data("ba7_release15_deg.csv")]),
+    ] {
+        let json = dir.path().join(format!("{name}.json"));
+        let out = swingfit()
+            .args(["fit", "--counts-per-rev", "10000", "--damping", "viscous,coulomb,quadratic"])
+            .args(["--bootstrap", "6", "--seed", "3"])
+            .args(&logs)
+            .arg("--json")
+            .arg(&json)
+            .assert()
+            .success();
+        let stdout = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+        assert!(stdout.contains("is not fitted"), "{name}: the tail is cut: {stdout}");
+        let doc: Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+        let method = doc["fit"]["interval_method"].as_str().unwrap();
+        assert!(method.starts_with("moving-block bootstrap, 6 refits"), "{name}: {method}");
+        let t = truth();
+        for k in ["omega_n", "viscous", "coulomb", "quadratic"] {
+            assert!(inside(&doc["normalized"][k], t[k].as_f64().unwrap()), "{name} {k}");
+        }
+    }
+}
+
+#[test]
+fn bootstrap_work_is_capped() {
+    let out = swingfit()
+        .args(["fit", "--bootstrap", "5000"])
+        .arg(demo_data("ba7_release15_deg.csv"))
+        .assert()
+        .code(2);
+    let err = String::from_utf8_lossy(&out.get_output().stderr).to_string();
+    assert!(err.contains("at most 1000 refits"), "{err}");
+    assert_eq!(err.lines().count(), 1);
+}

@@ -343,3 +343,16 @@ fn correlated_residuals_widen_the_intervals_and_say_so() {
     assert!(f.t95 > 1.97, "t on few windows: {}", f.t95);
     assert_covers(&f, &p);
 }
+
+#[test]
+fn a_record_of_too_many_swings_is_refused_in_bounded_time() {
+    // 20 500 swings of a 0.05 s period (1025 s at 200 Hz): more than fit::MAX_SWINGS, refused
+    // with the reason before any integration.
+    let times = uniform(1025.0, 200.0);
+    let w = 2.0 * std::f64::consts::PI / 0.05;
+    let angles: Vec<f64> = times.iter().map(|t| 0.2 * (-0.001 * t).exp() * (w * t).cos()).collect();
+    let log = AngleLog::from_samples("long.csv", times, angles).expect("log");
+    let err = fit(&[log], &opts(set(&[Term::Viscous]))).expect_err("refused");
+    assert!(err.to_string().contains("swings"), "{err}");
+    assert!(err.to_string().contains("--from/--to"), "{err}");
+}
