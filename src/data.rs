@@ -150,6 +150,15 @@ pub fn load_runs(path: &Path, opts: &LoadOptions) -> Result<segment::FreeRuns, L
     let log = load(path, opts)?;
     let mut slip_note = None;
     let log = if opts.keep_slips {
+        let s = survey::survey(&log);
+        if s.slips.count() > 0 {
+            slip_note = Some(format!(
+                "{}: {} time-base slips kept as logged (--keep-slips): {}; the residuals will show the logger's clock, not the damping",
+                log.source(),
+                s.slips.count(),
+                slips::describe(&s.slips)
+            ));
+        }
         log
     } else {
         let s = survey::survey(&log);

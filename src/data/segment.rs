@@ -22,7 +22,8 @@
 //!    half cycles of every span, excluding in turn the half cycles it does not explain. A half
 //!    cycle is *forced* when the RMS misfit of its acceleration exceeds [`FORCED_RATIO`] of the
 //!    RMS acceleration the model predicts and that prediction is well above the acceleration
-//!    noise. Leading and trailing forced half cycles of a span are cut: the free segment starts
+//!    noise (swings smaller than 4 b0/ωn² or 20 bands are not judged: near the stick zone the
+//!    end of a natural decay and quantisation mimic forcing). Leading and trailing forced half cycles of a span are cut: the free segment starts
 //!    at the turning point that ends the last leading forced half cycle (a swing the hand was
 //!    still on), and ends at the one that starts the first trailing forced half cycle (a hand
 //!    stopping the swing).
@@ -276,8 +277,22 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
     };
     let w2 = (c[0] * c[0] + c[1] * c[1]).sqrt();
     out.omega_n = Some(w2.sqrt());
-    let verdicts: Vec<Vec<Judgement>> =
-        halves.iter().map(|hs| hs.iter().map(|hc| judge(hc, &c)).collect()).collect();
+    // Swings near the stick zone of the fitted Coulomb term (or a few noise bands) are not
+    // judged: there the end of a natural decay and quantisation mimic forcing.
+    let eq_fit = c[1].atan2(-c[0]);
+    let small = (4.0 * c[2].abs() / w2.max(1e-300)).max(20.0 * band);
+    let verdicts: Vec<Vec<Judgement>> = halves
+        .iter()
+        .map(|hs| {
+            hs.iter()
+                .map(|hc| {
+                    let amp =
+                        hc.points.iter().map(|d| (d.theta - eq_fit).abs()).fold(0.0, f64::max);
+                    if amp < small { Judgement::Unjudged } else { judge(hc, &c) }
+                })
+                .collect()
+        })
+        .collect();
     out.judged_half_cycles =
         verdicts.iter().flatten().filter(|j| **j != Judgement::Unjudged).count();
     let free_judged = verdicts.iter().flatten().filter(|j| matches!(j, Judgement::Free(_))).count();

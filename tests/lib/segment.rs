@@ -352,3 +352,74 @@ fn article_runs_carry_their_own_window() {
     let e = swingfit::article::parse("a.toml", &bad, std::path::Path::new(".")).expect_err("bad");
     assert_eq!(e.line, Some(12), "{e}");
 }
+
+#[test]
+fn a_phase_jump_is_found_and_later_samples_move_one_interval() {
+    // The logger skips one reading for good at sample 2000: from there every logged angle is
+    // the reading of the next instant, stamped one interval early.
+    let rate = 1000.0;
+    let n = 12_000;
+    let times: Vec<f64> = (0..=n).map(|i| i as f64 / rate).collect();
+    let tr = simulate(
+        &truth(),
+        &Release { equilibrium: EQ, angle: EQ + 0.8, velocity: 0.0 },
+        &times,
+        Method::DormandPrince { rtol: 1e-12, atol: 1e-14 },
+    )
+    .expect("valid");
+    let jump = (1500..4000).find(|&i| tr.velocity[i].abs() > 3.0).expect("fast");
+    let mut y: Vec<f64> = tr.angle[..n].to_vec();
+    for (i, v) in y.iter_mut().enumerate().skip(jump) {
+        *v = tr.angle[i + 1];
+    }
+    let t: Vec<f64> = times[..n].to_vec();
+    let format = LogFormat {
+        unit: OutputUnit::Counts,
+        counts_per_rev: Some(40_000.0),
+        noise_sd_rad: 0.0,
+        seed: 1,
+        comments: vec![],
+    };
+    let bytes = render(&t, &y, &format).expect("render");
+    let opts = LoadOptions { counts_per_rev: Some(40_000.0), ..LoadOptions::default() };
+    let log = parse("jump.csv", &bytes, &opts).expect("loads");
+    let found = survey(&log).slips;
+    assert_eq!(found.count(), 1, "{}", slips::describe(&found));
+    assert_eq!(found.slips[0].kind, SlipKind::PhaseLate);
+    assert_eq!(found.slips[0].index, jump);
+    let fixed = slips::retime(&log, &found).expect("retimed");
+    // After re-timing, sample k ≥ jump sits at the instant its reading was taken.
+    assert!((fixed.times()[jump] - times[jump + 1]).abs() < 1e-12);
+    assert!((fixed.times()[jump - 1] - times[jump - 1]).abs() < 1e-12);
+}
+
+#[test]
+fn a_natural_decay_to_rest_on_an_encoder_is_not_a_stop() {
+    // Strong dry friction: the swing dies in about 11 cycles and sticks; the last half cycles,
+    // a few encoder steps wide, must not be taken for a hand stopping it.
+    let physics =
+        Physics::undamped(OMEGA).with_coef(Term::Viscous, B1).with_coef(Term::Coulomb, 0.2);
+    let times: Vec<f64> = (0..(25.0 * RATE) as usize).map(|k| k as f64 / RATE).collect();
+    let tr = simulate(
+        &physics,
+        &Release { equilibrium: EQ, angle: EQ + 0.3, velocity: 0.0 },
+        &times,
+        Method::DormandPrince { rtol: 1e-12, atol: 1e-14 },
+    )
+    .expect("valid");
+    let format = LogFormat {
+        unit: OutputUnit::Counts,
+        counts_per_rev: Some(10_000.0),
+        noise_sd_rad: 1e-4,
+        seed: 19,
+        comments: vec![],
+    };
+    let bytes = render(&times, &tr.angle, &format).expect("render");
+    let opts = LoadOptions { counts_per_rev: Some(10_000.0), ..LoadOptions::default() };
+    let log = parse("stick.csv", &bytes, &opts).expect("loads");
+    let runs = segment::free_runs(&log, Window::default()).expect("free");
+    let g = &runs.segmentation.segments[0];
+    assert_eq!(g.end_cause, EndCause::Rest, "{:?}", runs.segmentation);
+    assert!(runs.segmentation.forced.is_empty(), "{:?}", runs.segmentation.forced);
+    assert!(g.end_s > 10.0 && g.end_s < 16.0, "rest from {}", g.end_s);
+}
