@@ -22,7 +22,7 @@
 //!    half cycles of every span, excluding in turn the half cycles it does not explain. A half
 //!    cycle is *forced* when the RMS misfit of its acceleration exceeds [`FORCED_RATIO`] of the
 //!    RMS acceleration the model predicts and that prediction is well above the acceleration
-//!    noise (swings smaller than 4 b0/ωn² or 20 bands are not judged: near the stick zone the
+//!    noise (swings smaller than 4 b0/ωn² or 5 bands are not judged: near the stick zone the
 //!    end of a natural decay and quantisation mimic forcing). Leading and trailing forced half cycles of a span are cut: the free segment starts
 //!    at the turning point that ends the last leading forced half cycle (a swing the hand was
 //!    still on), and ends at the one that starts the first trailing forced half cycle (a hand
@@ -280,15 +280,13 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
     // Swings near the stick zone of the fitted Coulomb term (or a few noise bands) are not
     // judged: there the end of a natural decay and quantisation mimic forcing.
     let eq_fit = c[1].atan2(-c[0]);
-    let small = (4.0 * c[2].abs() / w2.max(1e-300)).max(20.0 * band);
+    let small = (4.0 * c[2].abs() / w2.max(1e-300)).max(5.0 * band);
     let verdicts: Vec<Vec<Judgement>> = halves
         .iter()
         .map(|hs| {
             hs.iter()
                 .map(|hc| {
-                    let amp =
-                        hc.points.iter().map(|d| (d.theta - eq_fit).abs()).fold(0.0, f64::max);
-                    if amp < small { Judgement::Unjudged } else { judge(hc, &c) }
+                    if amplitude(hc, eq_fit) < small { Judgement::Unjudged } else { judge(hc, &c) }
                 })
                 .collect()
         })
@@ -323,8 +321,14 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
         let lead = vs.iter().take_while(|v| !matches!(v, Judgement::Free(_))).count();
         let lead_forced = vs[..lead].iter().filter(|v| matches!(v, Judgement::Forced(_))).count();
         let trail = vs.iter().rev().take_while(|v| !matches!(v, Judgement::Free(_))).count();
-        let trail_forced =
-            vs[vs.len() - trail..].iter().filter(|v| matches!(v, Judgement::Forced(_))).count();
+        // A hand stop happens at a real amplitude: trailing half cycles under 5 % of the span's
+        // largest swing are the natural end of the decay, whatever their misfit.
+        let span_amp = hs.iter().map(|hc| amplitude(hc, eq_fit)).fold(0.0, f64::max);
+        let trail_forced = (hs.len() - trail..hs.len())
+            .filter(|&i| {
+                matches!(vs[i], Judgement::Forced(_)) && amplitude(&hs[i], eq_fit) > 0.05 * span_amp
+            })
+            .count();
         let mut start = a;
         let mut start_cause = match pre {
             None => StartCause::LogStart,
@@ -375,6 +379,11 @@ pub fn segment(log: &AngleLog, s: &Survey) -> Segmentation {
         ));
     }
     out
+}
+
+/// Largest |θ − θeq| over a half cycle's points.
+fn amplitude(hc: &HalfCycle, eq: f64) -> f64 {
+    hc.points.iter().map(|d| (d.theta - eq).abs()).fold(0.0, f64::max)
 }
 
 /// Ratio of measured to predicted RMS acceleration over a half cycle.
