@@ -57,6 +57,9 @@ pub fn run(args: &CompareArgs) -> CmdResult {
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
     }
     print!("{}", table::compare_table(&c));
+    if let Some(note) = c.presliding_note() {
+        println!("{note}");
+    }
     if c.candidates.iter().all(|e| e.fit.is_err()) {
         return Err(Failure::rejected("no candidate damping set could be fitted"));
     }

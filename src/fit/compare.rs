@@ -183,6 +183,63 @@ impl Comparison {
         }
     }
 
+    /// What the record says about pre-sliding friction, in words (docs/friction.md): whether
+    /// the selected model's spring–slider is seen at work (the last swings reach its range
+    /// b0/σ, where the small-amplitude period falls to 2π/√(ωn² + σ)), or that the record cannot
+    /// determine σ because its smallest swing stays far above the range. `None` when no
+    /// candidate with Coulomb friction was fitted.
+    pub fn presliding_note(&self) -> Option<String> {
+        let a_min = self
+            .measured_peaks
+            .iter()
+            .flat_map(|r| r.iter().map(|p| p.deflection.abs()))
+            .filter(|a| *a > 0.0)
+            .fold(f64::INFINITY, f64::min);
+        if !a_min.is_finite() {
+            return None;
+        }
+        let sel = self.selected()?;
+        let with_ps = if sel.damping.contains(Term::Presliding) {
+            Some(sel)
+        } else if sel.damping.contains(Term::Coulomb) {
+            let want = sel.damping.with(Term::Presliding);
+            self.candidates.iter().find(|c| c.damping == want).and_then(|c| c.outcome())
+        } else {
+            None
+        };
+        let Some(f) = with_ps else {
+            return None;
+        };
+        let (b0, sigma) = (f.physics.coef(Term::Coulomb), f.physics.coef(Term::Presliding));
+        if !(b0 > 0.0 && sigma > 0.0) {
+            return None;
+        }
+        let range = b0 / sigma;
+        let wn = f.physics.omega_n;
+        let chosen = sel.damping.contains(Term::Presliding);
+        Some(if a_min <= 2.0 * range && chosen {
+            format!(
+                "Pre-sliding signature seen: the smallest swings ({a_min:.3e} rad) reach the \
+                 spring range b0/sigma = {range:.3e} rad, where the period falls from {:.6} s \
+                 towards {:.6} s.",
+                2.0 * std::f64::consts::PI / wn,
+                2.0 * std::f64::consts::PI / (wn * wn + sigma).sqrt()
+            )
+        } else if a_min <= 2.0 * range {
+            format!(
+                "Pre-sliding: the smallest swings ({a_min:.3e} rad) reach the range b0/sigma = \
+                 {range:.3e} rad of the fitted spring, but the data do not support the term."
+            )
+        } else {
+            format!(
+                "This record cannot determine a pre-sliding stiffness sigma: its smallest swing \
+                 ({a_min:.3e} rad) stays above the range of any spring it could reveal (fitted \
+                 b0/sigma = {range:.3e} rad); a record that decays to that range with many \
+                 cycles, or a second small release, is needed."
+            )
+        })
+    }
+
     /// The best envelope law.
     pub fn envelope_law(&self) -> EnvelopeLaw {
         self.envelope.laws.first().map(|l| l.0).unwrap_or(EnvelopeLaw::Exponential)
@@ -195,10 +252,12 @@ pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
     compare_surveyed(logs, &surveys, options)
 }
 
-/// The candidate sets a comparison fits by default: every non-empty subset of the damping terms.
-/// (One place to extend when a new term joins.)
+/// The candidate sets a comparison fits by default: every non-empty subset of the three
+/// rate-dependent terms, and each of them that holds Coulomb friction with its pre-sliding
+/// stiffness too (a pre-sliding term only exists with Coulomb). (One place to extend when a new
+/// term joins.)
 pub fn default_candidates() -> Vec<DampingSet> {
-    DampingSet::all_nonempty()
+    DampingSet::all_with_presliding()
 }
 
 /// [`compare`] with the surveys already made.

@@ -139,8 +139,8 @@ pub fn repeat_weights(angles: &[f64]) -> Vec<f64> {
     w
 }
 
-/// Most local parameters of one run: ωn, three damping terms, θeq, θ0, ω0.
-const MAX_LOCAL: usize = 1 + 3 + RELEASE_PARAMS;
+/// Most local parameters of one run: ωn, every damping term, θeq, θ0, ω0.
+const MAX_LOCAL: usize = 1 + crate::model::N_TERMS + RELEASE_PARAMS;
 
 /// One run's share of the normal equations: (RSS, JᵀJ, Jᵀr) over its local parameters.
 type RunNormal = (f64, DMatrix<f64>, DVector<f64>);

@@ -111,3 +111,35 @@ fn envelope_laws_are_told_apart() {
     assert_eq!(envelope_fits(&make(&|n| 0.5 - 0.01 * n)).laws[0].0, EnvelopeLaw::Linear);
     assert_eq!(envelope_fits(&make(&|n| 1.0 / (2.0 + 0.2 * n))).laws[0].0, EnvelopeLaw::Hyperbolic);
 }
+
+// Pre-sliding candidates, on the SciPy reference logs of tests/reference/make_presliding.py
+// (truth in tests/data/presliding/<case>.json).
+
+fn presliding_log(file: &str) -> swingfit::data::AngleLog {
+    let path = format!("{}/tests/data/presliding/{file}", env!("CARGO_MANIFEST_DIR"));
+    swingfit::data::load(std::path::Path::new(&path), &swingfit::data::LoadOptions::default())
+        .unwrap_or_else(|e| panic!("{e}"))
+}
+
+#[test]
+fn compare_chooses_presliding_on_a_presliding_log_and_says_so() {
+    let c = swingfit::fit::compare::compare(
+        &[presliding_log("presliding_truth.csv")],
+        &swingfit::fit::compare::CompareOptions::default(),
+    );
+    let truth = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb, Term::Presliding]);
+    assert_eq!(c.best, Some(truth));
+    let note = c.presliding_note().expect("a note");
+    assert!(note.starts_with("Pre-sliding signature seen"), "{note}");
+}
+
+#[test]
+fn compare_does_not_choose_presliding_on_a_plain_coulomb_log() {
+    let c = swingfit::fit::compare::compare(
+        &[presliding_log("plain_viscous_coulomb.csv")],
+        &swingfit::fit::compare::CompareOptions::default(),
+    );
+    assert_eq!(c.best, Some(DampingSet::from_terms(&[Term::Viscous, Term::Coulomb])));
+    let note = c.presliding_note().expect("a note");
+    assert!(note.contains("cannot determine a pre-sliding stiffness"), "{note}");
+}

@@ -356,3 +356,61 @@ fn a_record_of_too_many_swings_is_refused_in_bounded_time() {
     assert!(err.to_string().contains("swings"), "{err}");
     assert!(err.to_string().contains("--from/--to"), "{err}");
 }
+
+// ---------------------------------------------------------------------------------------------
+// Pre-sliding friction against the independent SciPy reference (tests/reference/
+// make_presliding.py integrates the friction force as a state with its own events; outputs in
+// tests/data/presliding/, truth in <case>.json).
+
+fn presliding_log(file: &str) -> AngleLog {
+    let path = format!("{}/tests/data/presliding/{file}", env!("CARGO_MANIFEST_DIR"));
+    swingfit::data::load(std::path::Path::new(&path), &swingfit::data::LoadOptions::default())
+        .unwrap_or_else(|e| panic!("{e}"))
+}
+
+#[test]
+fn presliding_simulation_matches_the_scipy_state_integration() {
+    use swingfit::integrate::{Method, simulate};
+    use swingfit::model::{Physics, Release};
+    let truth = presliding_log("presliding_truth.truth.csv");
+    let p = Physics { omega_n: 5.0, damping: [0.01, 0.05, 0.0, 8.0], breakaway: None };
+    let r = Release { equilibrium: 0.002, angle: 0.15, velocity: 0.05 };
+    let tr = simulate(&p, &r, truth.times(), Method::DormandPrince { rtol: 1e-12, atol: 1e-14 })
+        .expect("simulates");
+    let worst =
+        tr.angle.iter().zip(truth.angles()).map(|(a, b)| (a - b).abs()).fold(0.0f64, f64::max);
+    assert!(worst < 1e-9, "max |swingfit − SciPy| = {worst} rad");
+    // The record does reach the spring range: the last turning points are less than 2·b0/σ
+    // apart (else σ would not be identifiable from it).
+    let rev: Vec<f64> = tr
+        .events
+        .iter()
+        .filter_map(|e| match e {
+            swingfit::integrate::Event::Reversal { angle, .. } => Some(*angle),
+            _ => None,
+        })
+        .collect();
+    let n = rev.len();
+    assert!((rev[n - 1] - rev[n - 2]).abs() < 2.0 * 0.05 / 8.0);
+}
+
+#[test]
+fn presliding_fit_recovers_the_truth_inside_its_intervals() {
+    let log = presliding_log("presliding_truth.csv");
+    let d = set(&[Term::Viscous, Term::Coulomb, Term::Presliding]);
+    let f = fit(&[log], &opts(d)).unwrap_or_else(|e| panic!("{e}"));
+    // Truth: tests/data/presliding/presliding_truth.json.
+    let inside = |e: &swingfit::fit::Estimate, v: f64, name: &str| {
+        assert!(e.ci95.0 <= v && v <= e.ci95.1, "{name}: truth {v} outside {:?}", e.ci95);
+        assert!(e.ci95.1 - e.ci95.0 < 0.05 * v, "{name}: interval {:?} too wide", e.ci95);
+    };
+    inside(&f.omega_n, 5.0, "omega_n");
+    inside(f.term(Term::Viscous).expect("b1"), 0.01, "b1");
+    inside(f.term(Term::Coulomb).expect("b0"), 0.05, "b0");
+    inside(f.term(Term::Presliding).expect("sigma"), 8.0, "sigma");
+    // Without the pre-sliding term the same log is fitted much worse.
+    let plain = fit(&[presliding_log("presliding_truth.csv")], &opts(d.without(Term::Presliding)))
+        .map(|p| p.rss)
+        .unwrap_or(f64::INFINITY);
+    assert!(plain > 4.0 * f.rss, "plain Coulomb RSS {plain} vs pre-sliding {}", f.rss);
+}
