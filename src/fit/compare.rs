@@ -207,9 +207,7 @@ impl Comparison {
         } else {
             None
         };
-        let Some(f) = with_ps else {
-            return None;
-        };
+        let f = with_ps?;
         let (b0, sigma) = (f.physics.coef(Term::Coulomb), f.physics.coef(Term::Presliding));
         if !(b0 > 0.0 && sigma > 0.0) {
             return None;
