@@ -22,7 +22,11 @@ fn log(p: Physics, a0: f64, seed: u64) -> AngleLog {
 
 fn best_of(logs: &[AngleLog]) -> (Option<DampingSet>, String) {
     let c = compare(logs, &CompareOptions::default());
-    assert_eq!(c.candidates.len(), 7, "all seven candidates are listed");
+    assert_eq!(
+        c.candidates.len(),
+        11,
+        "all eleven candidates (seven rate-dependent sets, four with pre-sliding) are listed"
+    );
     (c.best, swingfit::report::verdict::comparison(&c))
 }
 
