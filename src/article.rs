@@ -208,6 +208,15 @@ impl Ctx<'_> {
         }
     }
 
+    fn nonempty(&self, s: &Spanned<String>, key: &str) -> Result<String, ArticleError> {
+        let v = s.get_ref().trim();
+        if v.is_empty() {
+            Err(self.at(s.span(), key, "expected a non-empty string"))
+        } else {
+            Ok(v.to_string())
+        }
+    }
+
     fn positive(&self, v: &Spanned<f64>, key: &str, what: &str) -> Result<f64, ArticleError> {
         let x = *v.get_ref();
         if x.is_finite() && x > 0.0 {
@@ -230,27 +239,9 @@ impl Ctx<'_> {
 /// Parse the text of an article file. `file` names it in messages; log paths are resolved
 /// against `base` (the article file's directory). Does not touch the file system.
 pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, ArticleError> {
-    let raw: RawArticle = toml::from_str(text).map_err(|e| {
-        let (line, key) = match e.span() {
-            Some(s) => (Some(line_of(text, s.start)), key_at(text, &s)),
-            None => (None, None),
-        };
-        ArticleError {
-            file: file.to_string(),
-            line,
-            key,
-            what: e.message().trim().replace('\n', " "),
-        }
-    })?;
+    let raw: RawArticle = toml::from_str(text).map_err(|e| toml_error(file, text, &e))?;
     let cx = Ctx { file, text };
-    let nonempty = |s: &Spanned<String>, key: &str| -> Result<String, ArticleError> {
-        let v = s.get_ref().trim();
-        if v.is_empty() {
-            Err(cx.at(s.span(), key, "expected a non-empty string"))
-        } else {
-            Ok(v.to_string())
-        }
-    };
+    let nonempty = |s: &Spanned<String>, key: &str| cx.nonempty(s, key);
     let id = nonempty(&raw.id, "id")?;
     let name = nonempty(&raw.name, "name")?;
     let mass = cx.positive(&raw.mass.value, "mass.value", "mass in kg")?;
@@ -282,60 +273,8 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
     }
     let mut runs = Vec::new();
     for (i, r) in raw.run.into_iter().enumerate() {
-        let r = r.into_inner();
-        let key = |k: &str| format!("run[{}].{k}", i + 1);
-        let log_as_written = nonempty(&r.log, &key("log"))?;
-        let unit = |u: &Option<Spanned<String>>,
-                    k: &str,
-                    ok: &[&str]|
-         -> Result<Option<String>, ArticleError> {
-            match u {
-                None => Ok(None),
-                Some(s) if ok.contains(&s.get_ref().as_str()) => Ok(Some(s.get_ref().clone())),
-                Some(s) => Err(cx.at(
-                    s.span(),
-                    &key(k),
-                    format!("expected one of {}, found \"{}\"", ok.join(", "), s.get_ref()),
-                )),
-            }
-        };
-        let time_key = |v: &Option<Spanned<f64>>, k: &str| -> Result<Option<f64>, ArticleError> {
-            match v {
-                None => Ok(None),
-                Some(x) if x.get_ref().is_finite() => Ok(Some(*x.get_ref())),
-                Some(x) => Err(cx.at(
-                    x.span(),
-                    &key(k),
-                    format!("expected a time in s on the log's axis, found {}", x.get_ref()),
-                )),
-            }
-        };
-        let time_unit = unit(&r.time_unit, "time_unit", &["s", "ms", "us"])?;
-        let angle_unit =
-            unit(&r.angle_unit, "angle_unit", &["rad", "mrad", "deg", "grad", "counts"])?;
-        let counts_per_rev = match &r.counts_per_rev {
-            None => None,
-            Some(c) => {
-                Some(cx.positive(c, &key("counts_per_rev"), "number of counts per revolution")?)
-            }
-        };
-        runs.push(RunSpec {
-            label: r.label,
-            log: base.join(&log_as_written),
-            log_as_written,
-            load: LoadOptions {
-                time_col: r.time_col.map(RawColumn::into_string),
-                angle_col: r.angle_col.map(RawColumn::into_string),
-                time_unit,
-                angle_unit,
-                counts_per_rev,
-                counts_wrap: None,
-                drop_bad_rows: r.drop_bad_rows,
-                from_s: time_key(&r.from, "from")?,
-                to_s: time_key(&r.to, "to")?,
-                keep_slips: r.keep_slips,
-            },
-        });
+        let prefix = format!("run[{}].", i + 1);
+        runs.push(check_run(&cx, r.into_inner(), &prefix, base)?);
     }
     Ok(ArticleSpec {
         id,
@@ -354,6 +293,82 @@ pub fn parse(file: &str, text: &str, base: &Path) -> Result<ArticleSpec, Article
         damping,
         runs,
     })
+}
+
+/// Check one run table (the keys of a `[[run]]` table: the log and how to read it). `prefix`
+/// goes before each key in messages (`run[2].` in an article file); the log path is resolved
+/// against `base`. The one parser of the run keys: the article file and `--run` on the command
+/// line (`cli/runs.rs`) both come through here.
+fn check_run(cx: &Ctx<'_>, r: RawRun, prefix: &str, base: &Path) -> Result<RunSpec, ArticleError> {
+    let key = |k: &str| format!("{prefix}{k}");
+    let log_as_written = cx.nonempty(&r.log, &key("log"))?;
+    let unit = |u: &Option<Spanned<String>>,
+                k: &str,
+                ok: &[&str]|
+     -> Result<Option<String>, ArticleError> {
+        match u {
+            None => Ok(None),
+            Some(s) if ok.contains(&s.get_ref().as_str()) => Ok(Some(s.get_ref().clone())),
+            Some(s) => Err(cx.at(
+                s.span(),
+                &key(k),
+                format!("expected one of {}, found \"{}\"", ok.join(", "), s.get_ref()),
+            )),
+        }
+    };
+    let time_key = |v: &Option<Spanned<f64>>, k: &str| -> Result<Option<f64>, ArticleError> {
+        match v {
+            None => Ok(None),
+            Some(x) if x.get_ref().is_finite() => Ok(Some(*x.get_ref())),
+            Some(x) => Err(cx.at(
+                x.span(),
+                &key(k),
+                format!("expected a time in s on the log's axis, found {}", x.get_ref()),
+            )),
+        }
+    };
+    let time_unit = unit(&r.time_unit, "time_unit", &["s", "ms", "us"])?;
+    let angle_unit = unit(&r.angle_unit, "angle_unit", &["rad", "mrad", "deg", "grad", "counts"])?;
+    let counts_per_rev = match &r.counts_per_rev {
+        None => None,
+        Some(c) => {
+            Some(cx.positive(c, &key("counts_per_rev"), "number of counts per revolution")?)
+        }
+    };
+    Ok(RunSpec {
+        label: r.label,
+        log: base.join(&log_as_written),
+        log_as_written,
+        load: LoadOptions {
+            time_col: r.time_col.map(RawColumn::into_string),
+            angle_col: r.angle_col.map(RawColumn::into_string),
+            time_unit,
+            angle_unit,
+            counts_per_rev,
+            counts_wrap: None,
+            drop_bad_rows: r.drop_bad_rows,
+            from_s: time_key(&r.from, "from")?,
+            to_s: time_key(&r.to, "to")?,
+            keep_slips: r.keep_slips,
+        },
+    })
+}
+
+/// Parse one run table written as TOML text (keys as in a `[[run]]` table, `log` included),
+/// naming `file` in messages. Used by `--run` on the command line, which writes its
+/// `key=value` list as such a table so that its values are read exactly as the article file's.
+pub fn parse_run(file: &str, text: &str, base: &Path) -> Result<RunSpec, ArticleError> {
+    let raw: RawRun = toml::from_str(text).map_err(|e| toml_error(file, text, &e))?;
+    check_run(&Ctx { file, text }, raw, "", base)
+}
+
+/// A TOML syntax or schema error as an [`ArticleError`] at its line and key.
+fn toml_error(file: &str, text: &str, e: &toml::de::Error) -> ArticleError {
+    let (line, key) = match e.span() {
+        Some(s) => (Some(line_of(text, s.start)), key_at(text, &s)),
+        None => (None, None),
+    };
+    ArticleError { file: file.to_string(), line, key, what: e.message().trim().replace('\n', " ") }
 }
 
 fn gravity(

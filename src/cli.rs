@@ -12,6 +12,7 @@ mod check;
 mod compare;
 pub mod fit;
 mod plan;
+mod runs;
 pub mod sheet;
 mod simulate;
 

@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use super::fit::{EstimatorArgs, load_all};
+use super::fit::{EstimatorArgs, RUN_CONFLICTS, load_given};
 use super::{CmdResult, Failure, LoaderArgs};
 use crate::fit::compare::{self, CompareOptions};
 use crate::model::DampingSet;
@@ -14,8 +14,12 @@ use crate::report::{atomic, json, table};
 #[derive(Args, Debug)]
 pub struct CompareArgs {
     /// Logs of one article (CSV), fitted jointly under each candidate.
-    #[arg(required = true)]
+    #[arg(required_unless_present = "runs")]
     pub logs: Vec<PathBuf>,
+    /// A log with its own loader settings, repeated for each log (instead of LOG… and the
+    /// loader options): the keys of an article file's [[run]] table.
+    #[arg(long = "run", value_name = "LOG[:KEY=VALUE,...]", conflicts_with_all = RUN_CONFLICTS)]
+    pub runs: Vec<String>,
     /// Loader options.
     #[command(flatten)]
     pub loader: LoaderArgs,
@@ -49,7 +53,7 @@ pub fn run(args: &CompareArgs) -> CmdResult {
     if candidates.is_empty() {
         return Err(Failure::input("--candidates: no candidate sets given"));
     }
-    let logs = load_all(&args.logs, &args.loader)?;
+    let logs = load_given(&args.runs, &args.logs, &args.loader)?;
     let c = compare::compare(&logs, &CompareOptions { candidates, fit });
     if let Some(path) = &args.json {
         let doc = json::to_pretty(&json::compare_doc(&c));

@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::{CmdResult, Failure, LoaderArgs};
-use crate::data::AngleLog;
+use crate::data::{AngleLog, LoadOptions};
 use crate::fit::workflow::{self, Chosen, DampingChoice};
 use crate::fit::{FitOptions, FitOutcome};
 use crate::model::DampingSet;
@@ -98,8 +98,12 @@ impl EstimatorArgs {
 #[derive(Args, Debug)]
 pub struct FitArgs {
     /// Logs of one article (CSV), fitted jointly.
-    #[arg(required = true)]
+    #[arg(required_unless_present = "runs")]
     pub logs: Vec<PathBuf>,
+    /// A log with its own loader settings, repeated for each log (instead of LOG… and the
+    /// loader options): the keys of an article file's [[run]] table.
+    #[arg(long = "run", value_name = "LOG[:KEY=VALUE,...]", conflicts_with_all = RUN_CONFLICTS)]
+    pub runs: Vec<String>,
     /// Loader options.
     #[command(flatten)]
     pub loader: LoaderArgs,
@@ -120,13 +124,48 @@ pub struct FitArgs {
     pub budget: bool,
 }
 
+/// What `--run` cannot be combined with: logs given otherwise, or loader options for all logs.
+pub const RUN_CONFLICTS: [&str; 11] = [
+    "logs",
+    "time_col",
+    "angle_col",
+    "time_unit",
+    "angle_unit",
+    "counts_per_rev",
+    "counts_wrap",
+    "drop_bad_rows",
+    "from",
+    "to",
+    "keep_slips",
+];
+
+/// The logs of the command: every `--run` with its own settings, or the LOGs with the loader
+/// options; loaded, or fail on the first bad one.
+pub fn load_given(
+    runs: &[String],
+    paths: &[PathBuf],
+    loader: &LoaderArgs,
+) -> Result<Vec<AngleLog>, Failure> {
+    if runs.is_empty() {
+        load_all(paths, loader)
+    } else {
+        load_each(&super::runs::parse_all(runs)?)
+    }
+}
+
 /// Load every log, or fail on the first bad one.
 pub fn load_all(paths: &[PathBuf], loader: &LoaderArgs) -> Result<Vec<AngleLog>, Failure> {
     let opts = loader.options();
-    paths
-        .iter()
-        .map(|p| {
-            let found = crate::data::load_runs(p, &opts).map_err(Failure::input)?;
+    let each: Vec<(PathBuf, LoadOptions)> =
+        paths.iter().map(|p| (p.clone(), opts.clone())).collect();
+    load_each(&each)
+}
+
+/// Load every log with its own settings, or fail on the first bad one.
+pub fn load_each(logs: &[(PathBuf, LoadOptions)]) -> Result<Vec<AngleLog>, Failure> {
+    logs.iter()
+        .map(|(p, opts)| {
+            let found = crate::data::load_runs(p, opts).map_err(Failure::input)?;
             let dropped = found.runs.first().map_or(0, |l| l.dropped_lines().len());
             if dropped > 0 {
                 eprintln!(
@@ -237,7 +276,7 @@ pub fn run(args: &FitArgs) -> CmdResult {
             "--budget needs the physical inputs: give --mass and --pivot-to-cg (with their --mass-std and --pivot-to-cg-std)",
         ));
     }
-    let logs = load_all(&args.logs, &args.loader)?;
+    let logs = load_given(&args.runs, &args.logs, &args.loader)?;
     let chosen = choose_and_fit(&logs, &args.estimator)?;
     let outcome = &chosen.outcome;
     let choice = crate::report::verdict::choice_line(&chosen);
