@@ -110,6 +110,9 @@ pub struct AdequacyReport {
     /// The residual structure, when there is some, looks like sensor noise (coloured or drifting)
     /// rather than a missing term: it does not follow the swing.
     pub sensor_like: bool,
+    /// Time-base slips left in the fitted samples (fitted as logged, `--keep-slips`): a slipping
+    /// logger clock leaves structured residual of its own, so the verdict names it as a cause.
+    pub time_base_slips: usize,
     /// Per run, in fit order.
     pub runs: Vec<RunAdequacy>,
 }
@@ -167,7 +170,13 @@ pub fn assess(omega_n: f64, runs: &[RunInput<'_>]) -> AdequacyReport {
     } else {
         Adequacy::NotExplained
     };
-    AdequacyReport { verdict, sensor_like: !exact && !locked && !quiet, runs: figures }
+    let time_base_slips = runs.iter().map(|r| r.survey.slips.count()).sum();
+    AdequacyReport {
+        verdict,
+        sensor_like: !exact && !locked && !quiet,
+        time_base_slips,
+        runs: figures,
+    }
 }
 
 fn run_figures(omega_n: f64, r: &RunInput<'_>) -> RunAdequacy {

@@ -21,7 +21,7 @@
 //!                               "sensitivity_unit", "contribution", "share" } ],
 //!                 "correlations": [ { "a", "b", "r", "term", "term_unit", "share" } ] } ],
 //!   "adequacy": { "verdict": "explained" | "approximate" | "not_explained", "sensor_like",
-//!                 "summary", "noise_ratio", "whiteness_p", "swing_locked", "amplitude_error",
+//!                 "time_base_slips", "summary", "noise_ratio", "whiteness_p", "swing_locked", "amplitude_error",
 //!                 "duration_error", "runs": [ { same figures per run, "lag1", "half_cycles" } ] },
 //!   "damping_choice": "…",                         how the set was chosen, in words
 //!   "inputs": { "mass": I, "pivot_to_cg": I, "gravity": I } }   only with `physical`
@@ -221,6 +221,8 @@ pub struct AdequacyDoc {
     pub verdict: &'static str,
     /// The residual structure looks like sensor noise (coloured or drifting), not a missing term.
     pub sensor_like: bool,
+    /// Time-base slips left in the fitted samples (named as a cause when not explained).
+    pub time_base_slips: usize,
     /// The verdict in words.
     pub summary: String,
     /// Worst RMS residual / survey noise floor.
@@ -261,6 +263,7 @@ pub fn adequacy_doc(a: &crate::fit::adequacy::AdequacyReport) -> AdequacyDoc {
     AdequacyDoc {
         verdict: a.verdict.name(),
         sensor_like: a.sensor_like,
+        time_base_slips: a.time_base_slips,
         summary: crate::report::verdict::adequacy_line(a),
         noise_ratio: a.worst(|r| r.noise_ratio),
         whiteness_p: a.whiteness_p(),

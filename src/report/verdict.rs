@@ -34,6 +34,18 @@ pub fn estimate_text(value: f64, half: f64, unit: &str) -> String {
 
 /// The one-line adequacy verdict shown first by `fit` and `sheet`.
 pub fn adequacy_line(a: &AdequacyReport) -> String {
+    let mut line = adequacy_sentence(a);
+    if a.time_base_slips > 0 && a.verdict != Adequacy::Explained {
+        let _ = write!(
+            line,
+            " The logger's time base slips: {} samples stamped one interval off were fitted as logged, and a slipping clock leaves residual that follows the swing by itself; re-time them (drop --keep-slips) before blaming the damping model.",
+            a.time_base_slips
+        );
+    }
+    line
+}
+
+fn adequacy_sentence(a: &AdequacyReport) -> String {
     let ratio = a.worst(|r| r.noise_ratio);
     let kappa = a.worst(|r| r.swing_locked);
     let amp = a.worst(|r| r.amplitude_error);

@@ -111,7 +111,12 @@ fn outcome(runs: Vec<RunFit>) -> FitOutcome {
         interval_dof: (n_obs - p) as f64,
         flags: vec!["synthetic flag <check escaping>".into()],
         notes: vec![],
-        adequacy: AdequacyReport { verdict: Adequacy::Explained, sensor_like: false, runs: vec![] },
+        adequacy: AdequacyReport {
+            verdict: Adequacy::Explained,
+            sensor_like: false,
+            time_base_slips: 0,
+            runs: vec![],
+        },
     }
 }
 

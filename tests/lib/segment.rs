@@ -423,3 +423,21 @@ fn a_natural_decay_to_rest_on_an_encoder_is_not_a_stop() {
     assert!(runs.segmentation.forced.is_empty(), "{:?}", runs.segmentation.forced);
     assert!(g.end_s > 10.0 && g.end_s < 16.0, "rest from {}", g.end_s);
 }
+
+#[test]
+fn slips_fitted_as_logged_are_named_by_the_adequacy_verdict() {
+    // The same 40 injected slips, fitted as logged (what `--keep-slips` does): the residual then
+    // carries the logger's clock, and the verdict must say so instead of blaming the damping.
+    let (log, _) = slipped(40);
+    let out = fit(&[log], &FitOptions::default()).expect("fits as logged");
+    assert_eq!(out.adequacy.time_base_slips, 40);
+    assert_ne!(out.adequacy.verdict, swingfit::fit::adequacy::Adequacy::Explained);
+    let line = swingfit::report::verdict::adequacy_line(&out.adequacy);
+    assert!(line.contains("time base slips: 40 samples"), "{line}");
+    // Re-timed, there are none left to name.
+    let (log, _) = slipped(40);
+    let fixed = slips::retime(&log, &survey(&log).slips).expect("retimed");
+    let out = fit(&[fixed], &FitOptions::default()).expect("fits re-timed");
+    assert_eq!(out.adequacy.time_base_slips, 0);
+    assert!(!swingfit::report::verdict::adequacy_line(&out.adequacy).contains("time base"));
+}
