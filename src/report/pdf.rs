@@ -48,6 +48,19 @@ pub fn find_browser() -> Result<PathBuf, PdfError> {
     Err(PdfError::NoBrowser)
 }
 
+/// How headless Chromium is started, here and in the browser tests: no sandbox (CI runs as root),
+/// no GPU, and none of the background services that would try the network.
+pub const HEADLESS_FLAGS: [&str; 8] = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+];
+
 /// Print `html` to `pdf` with `browser` (A4, the page's own print CSS, no header or footer).
 pub fn print_to_pdf(browser: &Path, html: &Path, pdf: &Path) -> Result<(), PdfError> {
     let failed = |what: String| PdfError::Failed {
@@ -58,16 +71,7 @@ pub fn print_to_pdf(browser: &Path, html: &Path, pdf: &Path) -> Result<(), PdfEr
     let abs = std::fs::canonicalize(html).map_err(|e| failed(e.to_string()))?;
     let profile = Profile::new().map_err(|e| failed(format!("no temporary profile: {e}")))?;
     let out = Command::new(browser)
-        .args([
-            "--headless",
-            "--no-sandbox",
-            "--disable-gpu",
-            "--disable-quic",
-            "--no-first-run",
-            "--disable-background-networking",
-            "--disable-component-update",
-            "--disable-sync",
-        ])
+        .args(HEADLESS_FLAGS)
         .arg(format!("--user-data-dir={}", profile.0.display()))
         .arg("--no-pdf-header-footer")
         .arg(format!("--print-to-pdf={}", pdf.display()))

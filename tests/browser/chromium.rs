@@ -36,21 +36,10 @@ pub fn browser(test: &str) -> Option<&'static Path> {
 fn run_chromium(url: &str, screenshot: &Path) -> (String, String) {
     let bin = Path::new("/usr/bin/chromium");
     let profile = tempfile::tempdir().expect("temp dir");
-    let common = [
-        "--headless",
-        "--no-sandbox",
-        "--disable-gpu",
-        "--disable-quic",
-        "--no-first-run",
-        "--disable-background-networking",
-        "--disable-component-update",
-        "--disable-sync",
-        "--enable-logging=stderr",
-        "--v=0",
-        "--window-size=1240,1754",
-    ];
+    let common = ["--enable-logging=stderr", "--v=0", "--window-size=1240,1754"];
     let run = |extra: &str| {
         std::process::Command::new(bin)
+            .args(swingfit::report::pdf::HEADLESS_FLAGS)
             .args(common)
             .arg(format!(
                 "--user-data-dir={}",
