@@ -152,15 +152,6 @@ pub fn covariance_at(solution: &LmSolution, n_obs: usize) -> Result<Covariance, 
 pub enum IntervalMethod {
     /// x̂ ± t_{0.975, n−p}·SE with the plain covariance (residuals white).
     Plain,
-    /// SE inflated by `factor` = √(n/n_eff), n_eff = n(1 − ρ₁)/(1 + ρ₁); t with n_eff − p dof.
-    EffectiveSampleSize {
-        /// Lag-1 autocorrelation of the residuals.
-        rho1: f64,
-        /// Effective sample size.
-        n_eff: f64,
-        /// Standard-error inflation factor √(n/n_eff).
-        factor: f64,
-    },
     /// HAC sandwich covariance (Bartlett weights) for correlated residuals; see `fit::robust`.
     Hac {
         /// Lag-1 autocorrelation of the residuals (largest over runs).
@@ -260,43 +251,6 @@ pub fn plain_intervals(
     cov: &Covariance,
 ) -> Result<IntervalSet, UncertaintyError> {
     build(x, &cov.std, cov.dof as f64, IntervalMethod::Plain, None)
-}
-
-/// Effective sample size n_eff = n(1 − ρ₁)/(1 + ρ₁) for AR(1)-like residuals with lag-1
-/// autocorrelation ρ₁ > 0 (n itself for ρ₁ ≤ 0), kept within [1, n]. `[common practice]`: the
-/// variance-inflation factor of an AR(1) series, e.g. C. S. Bretherton et al., J. Climate
-/// 12:1990–2009, 1999, eq. 31 `[memory]`.
-pub fn effective_sample_size(n: usize, rho1: f64) -> f64 {
-    let nf = n as f64;
-    if rho1.is_nan() || rho1 <= 0.0 {
-        return nf;
-    }
-    let r = rho1.min(1.0 - 1e-12);
-    (nf * (1.0 - r) / (1.0 + r)).clamp(1.0, nf)
-}
-
-/// Intervals that respect residual correlation: Ljung–Box on `residuals` (h from
-/// [`stats::ljung_box_lags`], no ARMA parameters); when whiteness is rejected at level `alpha`
-/// and ρ₁ > 0, SE is inflated by √(n/n_eff) and t uses n_eff − p dof (at least 1), otherwise
-/// the plain intervals are returned. The result names the method and carries the test.
-pub fn whiteness_adjusted_intervals(
-    x: &DVector<f64>,
-    cov: &Covariance,
-    residuals: &[f64],
-    alpha: f64,
-) -> Result<IntervalSet, UncertaintyError> {
-    let lb = stats::ljung_box(residuals, stats::ljung_box_lags(residuals.len()), 0)?;
-    if lb.rejects_white(alpha) && lb.rho1 > 0.0 {
-        let n = residuals.len();
-        let n_eff = effective_sample_size(n, lb.rho1);
-        let factor = (n as f64 / n_eff).sqrt();
-        let p = x.len() as f64;
-        let dof = (n_eff - p).max(1.0);
-        let method = IntervalMethod::EffectiveSampleSize { rho1: lb.rho1, n_eff, factor };
-        build(x, &(&cov.std * factor), dof, method, Some(lb))
-    } else {
-        build(x, &cov.std, cov.dof as f64, IntervalMethod::Plain, Some(lb))
-    }
 }
 
 /// Intervals from bootstrap refits: SE_j = sample standard deviation of the replicate estimates,

@@ -276,9 +276,6 @@ pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> Stri
         M::Plain => {
             "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into()
         }
-        M::EffectiveSampleSize { rho1, n_eff, factor } => format!(
-            "Student-t on s^2 (J^T J)^-1 widened x{factor:.2} for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}, effective sample size {n_eff:.0})"
-        ),
         M::Hac { rho1, bandwidth, dof } => format!(
             "HAC sandwich covariance for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}), Bartlett weights over {bandwidth} samples, t on {dof:.0} degrees of freedom (never narrower than s^2 (J^T J)^-1)"
         ),

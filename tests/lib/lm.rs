@@ -418,42 +418,6 @@ fn unit_covariance(n: usize, std: &[f64], corr: DMatrix<f64>) -> Covariance {
 }
 
 #[test]
-fn effective_sample_size_follows_the_ar1_rule() {
-    // n_eff = n(1 − ρ)/(1 + ρ) [common practice; Bretherton et al. 1999 [memory]].
-    assert!((uncertainty::effective_sample_size(300, 0.5) - 100.0).abs() < 1e-12);
-    assert!((uncertainty::effective_sample_size(300, -0.3) - 300.0).abs() < 1e-12);
-    assert!((uncertainty::effective_sample_size(300, 1.0) - 1.0).abs() < 1e-12);
-}
-
-#[test]
-fn correlated_residuals_widen_intervals_by_effective_sample_size() {
-    let res = ar1(2000, 0.8, 7);
-    let x = DVector::from_column_slice(&[1.0, 2.0]);
-    let cov = unit_covariance(2000, &[0.1, 0.2], DMatrix::identity(2, 2));
-    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
-    let IntervalMethod::EffectiveSampleSize { rho1, n_eff, factor } = iv.method else {
-        panic!("expected widening, got {:?}", iv.method);
-    };
-    assert!((rho1 - 0.8).abs() < 0.05, "rho1 {rho1}");
-    assert!((n_eff - 2000.0 * (1.0 - rho1) / (1.0 + rho1)).abs() < 1e-9);
-    assert!((factor - ((1.0 + rho1) / (1.0 - rho1)).sqrt()).abs() < 1e-12);
-    assert!((iv.params[1].std - 0.2 * factor).abs() < 1e-12);
-    let t = swingfit::stats::t_quantile(0.975, n_eff - 2.0).unwrap();
-    assert!((iv.params[1].half_width() - t * 0.2 * factor).abs() < 1e-12);
-    assert!(iv.whiteness.as_ref().unwrap().p_value < 1e-10);
-}
-
-#[test]
-fn white_residuals_keep_plain_intervals() {
-    let res = white(2000, 11);
-    let x = DVector::from_column_slice(&[1.0]);
-    let cov = unit_covariance(2000, &[0.1], DMatrix::identity(1, 1));
-    let iv = uncertainty::whiteness_adjusted_intervals(&x, &cov, &res, 0.05).unwrap();
-    assert_eq!(iv.method, IntervalMethod::Plain, "p = {}", iv.whiteness.as_ref().unwrap().p_value);
-    assert!((iv.params[0].std - 0.1).abs() < 1e-15);
-}
-
-#[test]
 fn moving_block_bootstrap_resamples_whole_blocks_reproducibly() {
     let res: Vec<f64> = (0..100).map(|i| i as f64).collect();
     let mut a = BlockBootstrap::new(&res, 7, 42).unwrap();
