@@ -103,3 +103,24 @@ pub fn code_spans_html(text: &str) -> String {
     }
     out
 }
+
+/// Format a value and its uncertainty alike: the uncertainty to two significant digits and the
+/// value to the same decimal place (JCGM 100:2008 §7.2.6 [memory; common practice]). Returns
+/// (value, uncertainty) strings; falls back to scientific notation for very large or small numbers.
+pub fn format_pair(value: f64, u: f64) -> (String, String) {
+    if !value.is_finite() {
+        return (format!("{value}"), format!("{u}"));
+    }
+    if !(u.is_finite() && u > 0.0) {
+        return (format!("{value:.6e}"), if u == 0.0 { "0".into() } else { format!("{u}") });
+    }
+    let e = u.log10().floor() as i32;
+    let decimals = 1 - e;
+    if (0..=9).contains(&decimals) && value.abs() < 1e7 {
+        let d = decimals as usize;
+        (format!("{value:.d$}"), format!("{u:.d$}"))
+    } else {
+        let digits = (value.abs().log10().floor() as i32 - e + 1).clamp(1, 12) as usize;
+        (format!("{value:.digits$e}"), format!("{u:.1e}"))
+    }
+}
