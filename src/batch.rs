@@ -12,29 +12,12 @@
 //! - Every fit is independent of the others and of the thread count, so the summaries are
 //!   byte-identical at any `threads` setting.
 //!
-//! ## Wire format `swingfit.batch.v1` (one JSON object per line of `summary.jsonl`)
-//! ```text
-//! { "schema": "swingfit.batch.v1", "file": "…", "status": "ok" | "error",
-//!   "adequacy": "explained" | "approximate" | "not_explained" | null, "damping": [..] | null,
-//!   "error_kind": null | "input" | "rejected", "error": null | "…",
-//!   "samples": n, "dropped_rows": n, "iterations": n, "rms_residual": r, "noise_floor": s,
-//!   "normalized": { "omega_n": P, "viscous": P, … },    fitted terms only
-//!   "physical": { "inertia_pivot": P, "viscous": P, … } only with mass and pivot-to-CG
-//!   "notes": [ "…" ]   what was cut before fitting (rest, holds, forced swings, re-timed slips)
-//! }
-//! ```
-//! `P` is the fit JSON's `{ "value", "std", "ci95": [lo, hi], "unit" }` (see
-//! [`crate::report::json`]); on an error row every field after `error` is null. `iterations`
-//! counts every continuation stage; `rms_residual` and `noise_floor` are in rad.
-//!
-//! `summary.csv` has the same content, flattened: for each coefficient `NAME`, the columns
-//! `NAME`, `NAME_std`, `NAME_ci95_lo`, `NAME_ci95_hi`; physical coefficients are prefixed
-//! `phys_`. Empty cells on error rows. Numbers are written in Rust's shortest round-trip form.
+//! The rows are written by `report::wire::batch` (`summary.jsonl`, `summary.csv`; schema
+//! `swingfit.batch.v1`, docs/schemas.md).
 
 use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::article;
 use crate::data::{self, LoadOptions};
@@ -42,11 +25,7 @@ use crate::fit::adequacy::Adequacy;
 use crate::fit::workflow::{self, DampingChoice};
 use crate::fit::{Estimate, FitOptions};
 use crate::model::{DampingSet, Term};
-use crate::physical::{self, ArticleInputs, PhysicalCoefficients, Quantity};
-use crate::report::json::P;
-
-/// Schema tag written on every line of `summary.jsonl`.
-pub const BATCH_SCHEMA: &str = "swingfit.batch.v1";
+use crate::physical::{self, ArticleInputs, PhysicalCoefficients};
 
 /// One thing to fit.
 #[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord)]
@@ -361,227 +340,6 @@ pub fn fit_article(path: &Path, settings: &BatchSettings) -> Result<RowFit, RowE
     })
 }
 
-/// The columns a summary needs: the batch's damping set widened by every term any row fitted
-/// (an article may fit other terms), and physical columns when any row has them.
-pub fn summary_columns(rows: &[Row], base: DampingSet, physical: bool) -> (DampingSet, bool) {
-    let mut set = base;
-    let mut phys = physical;
-    for f in rows.iter().filter_map(|r| r.result.as_ref().ok()) {
-        for (t, _) in &f.terms {
-            set = set.with(*t);
-        }
-        phys |= f.physical.is_some();
-    }
-    (set, phys)
-}
-
-/// Shortest round-trip form of a number (`NaN`, `inf` as Rust prints them).
-fn num(v: f64) -> String {
-    format!("{v}")
-}
-
-/// Names of the coefficient groups a batch writes, in column order, with the physical ones
-/// prefixed `phys_`.
-fn coefficient_names(damping: DampingSet, physical: bool) -> Vec<String> {
-    let mut v = vec!["omega_n".to_string()];
-    v.extend(damping.iter().map(|t| t.name().to_string()));
-    if physical {
-        v.push("phys_inertia_pivot".into());
-        v.extend(damping.iter().map(|t| format!("phys_{}", t.name())));
-    }
-    v
-}
-
-/// The (value, std, ci95) of every coefficient of a row, in [`coefficient_names`] order.
-fn coefficient_values(
-    fit: &RowFit,
-    damping: DampingSet,
-    physical: bool,
-) -> Vec<Option<(f64, f64, f64, f64)>> {
-    let est = |e: &Estimate| Some((e.value, e.std, e.ci95.0, e.ci95.1));
-    let qty = |q: &Quantity| Some((q.value, q.u_c, q.value - q.expanded, q.value + q.expanded));
-    let mut v = vec![est(&fit.omega_n)];
-    v.extend(
-        damping.iter().map(|t| fit.terms.iter().find(|(u, _)| *u == t).and_then(|(_, e)| est(e))),
-    );
-    if physical {
-        let p = fit.physical.as_ref();
-        v.push(p.and_then(|p| qty(&p.inertia_pivot)));
-        for t in damping.iter() {
-            let q = p.and_then(|p| p.damping[t.index()].as_ref());
-            v.push(q.and_then(qty));
-        }
-    }
-    v
-}
-
-/// `summary.csv`: a header and one row per log, in the order of `rows`. `physical` adds the
-/// physical columns (pass whether an article was given).
-pub fn summary_csv(rows: &[Row], damping: DampingSet, physical: bool) -> String {
-    let names = coefficient_names(damping, physical);
-    let mut header: Vec<String> = [
-        "file",
-        "status",
-        "adequacy",
-        "damping",
-        "error_kind",
-        "error",
-        "samples",
-        "dropped_rows",
-        "iterations",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
-    header.extend(["rms_residual".to_string(), "noise_floor".to_string()]);
-    for n in &names {
-        header.extend([
-            n.clone(),
-            format!("{n}_std"),
-            format!("{n}_ci95_lo"),
-            format!("{n}_ci95_hi"),
-        ]);
-    }
-    let mut w =
-        csv::WriterBuilder::new().terminator(csv::Terminator::Any(b'\n')).from_writer(Vec::new());
-    let mut records: Vec<Vec<String>> = vec![header];
-    for row in rows {
-        let mut rec = vec![row.file.clone()];
-        match &row.result {
-            Ok(f) => {
-                rec.extend([
-                    "ok".into(),
-                    f.adequacy.name().into(),
-                    f.damping.names().join("+"),
-                    String::new(),
-                    String::new(),
-                ]);
-                rec.extend([
-                    f.samples.to_string(),
-                    f.dropped_rows.to_string(),
-                    f.iterations.to_string(),
-                ]);
-                rec.extend([num(f.rms_residual), num(f.noise_floor)]);
-                for c in coefficient_values(f, damping, physical) {
-                    match c {
-                        Some((v, s, lo, hi)) => rec.extend([num(v), num(s), num(lo), num(hi)]),
-                        None => rec.extend(std::iter::repeat_n(String::new(), 4)),
-                    }
-                }
-            }
-            Err(e) => {
-                rec.extend([
-                    "error".into(),
-                    String::new(),
-                    String::new(),
-                    e.kind.name().into(),
-                    e.message.clone(),
-                ]);
-                rec.extend(std::iter::repeat_n(String::new(), 5 + 4 * names.len()));
-            }
-        }
-        records.push(rec);
-    }
-    for rec in &records {
-        // Writing to a Vec cannot fail, and every record has the header's length.
-        if w.write_record(rec).is_err() {
-            break;
-        }
-    }
-    let bytes = w.into_inner().unwrap_or_default();
-    String::from_utf8_lossy(&bytes).into_owned()
-}
-
-/// One line of `summary.jsonl`.
-#[derive(Serialize, Debug)]
-struct JsonRow<'a> {
-    schema: &'static str,
-    file: &'a str,
-    status: &'static str,
-    adequacy: Option<&'static str>,
-    damping: Option<Vec<&'static str>>,
-    error_kind: Option<&'static str>,
-    error: Option<&'a str>,
-    samples: Option<usize>,
-    dropped_rows: Option<usize>,
-    iterations: Option<usize>,
-    rms_residual: Option<f64>,
-    noise_floor: Option<f64>,
-    normalized: Option<serde_json::Map<String, serde_json::Value>>,
-    physical: Option<serde_json::Map<String, serde_json::Value>>,
-    notes: Option<&'a [String]>,
-}
-
-fn p_value(p: P) -> serde_json::Value {
-    serde_json::to_value(p).unwrap_or(serde_json::Value::Null)
-}
-
-/// `summary.jsonl`: one `swingfit.batch.v1` object per row, in the order of `rows`.
-pub fn summary_jsonl(rows: &[Row]) -> String {
-    let mut out = String::new();
-    for row in rows {
-        let line = match &row.result {
-            Ok(f) => {
-                let mut normalized = serde_json::Map::new();
-                normalized.insert("omega_n".into(), p_value(P::from(&f.omega_n)));
-                for (t, e) in &f.terms {
-                    normalized.insert(t.name().into(), p_value(P::from(e)));
-                }
-                let physical = f.physical.as_ref().map(|p| {
-                    let mut m = serde_json::Map::new();
-                    m.insert("inertia_pivot".into(), p_value(P::from(&p.inertia_pivot)));
-                    for t in Term::ALL {
-                        if let Some(q) = &p.damping[t.index()] {
-                            m.insert(t.name().into(), p_value(P::from(q)));
-                        }
-                    }
-                    m
-                });
-                JsonRow {
-                    schema: BATCH_SCHEMA,
-                    file: &row.file,
-                    status: "ok",
-                    adequacy: Some(f.adequacy.name()),
-                    damping: Some(f.damping.names()),
-                    error_kind: None,
-                    error: None,
-                    samples: Some(f.samples),
-                    dropped_rows: Some(f.dropped_rows),
-                    iterations: Some(f.iterations),
-                    rms_residual: Some(f.rms_residual),
-                    noise_floor: Some(f.noise_floor),
-                    normalized: Some(normalized),
-                    physical,
-                    notes: Some(&f.notes),
-                }
-            }
-            Err(e) => JsonRow {
-                schema: BATCH_SCHEMA,
-                file: &row.file,
-                status: "error",
-                adequacy: None,
-                damping: None,
-                error_kind: Some(e.kind.name()),
-                error: Some(&e.message),
-                samples: None,
-                dropped_rows: None,
-                iterations: None,
-                rms_residual: None,
-                noise_floor: None,
-                normalized: None,
-                physical: None,
-                notes: None,
-            },
-        };
-        // Plain structs and string-keyed maps always serialize; NaN becomes null.
-        out.push_str(
-            &serde_json::to_string(&line).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}")),
-        );
-        out.push('\n');
-    }
-    out
-}
-
 /// The exit code a batch ends with: 2 when any input was bad, else 1 when some fit was
 /// rejected, else 3 when some fit does not explain its log, else 0.
 pub fn exit_code(rows: &[Row]) -> u8 {
@@ -637,49 +395,6 @@ mod tests {
                 message: format!("{file}:3: expected a number, found \"x, y\""),
             }),
         }
-    }
-
-    #[test]
-    fn csv_has_one_column_group_per_fitted_coefficient_and_quotes_messages() {
-        let set = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]);
-        let text = summary_csv(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Input)], set, false);
-        let lines: Vec<&str> = text.lines().collect();
-        assert_eq!(lines.len(), 3);
-        assert_eq!(
-            lines[0],
-            "file,status,adequacy,damping,error_kind,error,samples,dropped_rows,iterations,rms_residual,noise_floor,\
-             omega_n,omega_n_std,omega_n_ci95_lo,omega_n_ci95_hi,viscous,viscous_std,viscous_ci95_lo,viscous_ci95_hi,\
-             coulomb,coulomb_std,coulomb_ci95_lo,coulomb_ci95_hi"
-        );
-        assert_eq!(
-            lines[1],
-            "a.csv,ok,explained,viscous+coulomb,,,2001,0,12,0.000085,0.000087,4.75,0.125,4.5,5,0.0625,0.0078125,0.046875,0.078125,0.03,0.002,0.026,0.034"
-        );
-        // The message has a comma and quotes: csv quoting keeps it one field.
-        assert_eq!(
-            lines[2],
-            "b.csv,error,,,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
-        );
-        let header_fields = lines[0].split(',').count();
-        let mut r = csv::Reader::from_reader(text.as_bytes());
-        for rec in r.records() {
-            assert_eq!(rec.map(|r| r.len()).unwrap_or(0), header_fields);
-        }
-    }
-
-    #[test]
-    fn jsonl_is_one_object_per_row_with_nulls_on_errors() {
-        let text = summary_jsonl(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Rejected)]);
-        let lines: Vec<serde_json::Value> = text
-            .lines()
-            .map(|l| serde_json::from_str(l).unwrap_or(serde_json::Value::Null))
-            .collect();
-        assert_eq!(lines.len(), 2);
-        assert_eq!(lines[0]["normalized"]["coulomb"]["ci95"][1].as_f64(), Some(0.034));
-        assert_eq!(lines[0]["iterations"].as_u64(), Some(12));
-        assert_eq!(lines[1]["status"], "error");
-        assert_eq!(lines[1]["error_kind"], "rejected");
-        assert!(lines[1]["normalized"].is_null() && lines[1]["samples"].is_null());
     }
 
     #[test]

@@ -1,8 +1,7 @@
-//! Reports: terminal tables, JSON wire formats, plots, the coefficient sheet.
+//! Reports: terminal tables, the wire formats (JSON, CSV), plots, the coefficient sheet.
 
 pub mod atomic;
 pub mod budget;
-pub mod json;
 pub mod pdf;
 pub mod plan;
 pub mod plot;
@@ -10,3 +9,4 @@ pub mod sheet;
 pub mod table;
 pub mod typeset;
 pub mod verdict;
+pub mod wire;

@@ -15,7 +15,7 @@ use indicatif::{ProgressBar, ProgressStyle};
 use super::fit::{ArticleArgs, EstimatorArgs, article};
 use super::{CmdResult, Failure, LoaderArgs};
 use crate::batch::{self, BatchSettings, Row};
-use crate::report::atomic;
+use crate::report::{atomic, wire};
 
 /// Arguments of `batch`.
 #[derive(Args, Debug)]
@@ -76,10 +76,10 @@ pub fn run(args: &BatchArgs) -> CmdResult {
     let csv_path = args.out.join("summary.csv");
     let jsonl_path = args.out.join("summary.jsonl");
     let (columns, physical) =
-        batch::summary_columns(&rows, settings.fit.damping, settings.article.is_some());
+        wire::batch::summary_columns(&rows, settings.fit.damping, settings.article.is_some());
     for (path, text) in [
-        (&csv_path, batch::summary_csv(&rows, columns, physical)),
-        (&jsonl_path, batch::summary_jsonl(&rows)),
+        (&csv_path, wire::batch::summary_csv(&rows, columns, physical)),
+        (&jsonl_path, wire::batch::summary_jsonl(&rows)),
     ] {
         atomic::write_atomic(path, text.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;

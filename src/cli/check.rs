@@ -3,24 +3,13 @@
 //! The human summary is a column of aligned labels with units (degrees where an engineer thinks
 //! in degrees); `--json` prints the same survey as one JSON object (wire format below).
 //!
-//! # Wire format (`--json`)
-//! `source`, `samples`, `duration_s`, `rate_hz`, `jitter` (robust interval spread / median),
-//! `gaps` (list of `{start_s, length_s}`), `angle_min_rad`, `angle_max_rad`, `rest_from_s`
-//! (null when the log does not end at rest), `equilibrium_rad`, `period_s` (null when too few
-//! crossings), `period_small_amplitude_s` (T0 with each half cycle corrected for its amplitude),
-//! `crossings`, `half_cycles` (peaks found), `first_peak_rad`, `noise_rad`,
-//! `encoder_step_rad` (null unless counts), `dropped_lines` (1-based file lines),
-//! `free_segments` (list of `{start_s, end_s, samples, start, end}` with the causes in words),
-//! `still` (list of `{from_s, to_s, deflection_rad, held}`), `forced_half_cycles` (list of
-//! `[from_s, to_s]`), `no_free_segment` (the reason, or null), and `slips`
-//! (`{count, doubled, repeated, phase_late, phase_early, bursts, period_s, judged_steps, first_s}`).
+//! The document is `report::wire::check::CheckDoc` (docs/schemas.md).
 
 use clap::Args;
-use serde::Serialize;
 
 use super::{CmdResult, Failure, LoaderArgs};
-use crate::data::slips::SlipKind;
 use crate::data::{self, segment, survey};
+use crate::report::wire;
 use crate::units::to_degrees;
 
 /// Arguments of `check`.
@@ -33,70 +22,6 @@ pub struct CheckArgs {
     /// Print the summary as JSON.
     #[arg(long)]
     pub json: bool,
-}
-
-/// JSON view of a survey (serialize only; see the module docs).
-#[derive(Serialize)]
-struct CheckJson<'a> {
-    source: &'a str,
-    samples: usize,
-    duration_s: f64,
-    rate_hz: f64,
-    jitter: f64,
-    gaps: Vec<GapJson>,
-    angle_min_rad: f64,
-    angle_max_rad: f64,
-    rest_from_s: Option<f64>,
-    equilibrium_rad: f64,
-    period_s: Option<f64>,
-    period_small_amplitude_s: Option<f64>,
-    crossings: usize,
-    half_cycles: usize,
-    first_peak_rad: Option<f64>,
-    noise_rad: f64,
-    encoder_step_rad: Option<f64>,
-    dropped_lines: &'a [u64],
-    free_segments: Vec<SegmentJson>,
-    still: Vec<StillJson>,
-    forced_half_cycles: Vec<[f64; 2]>,
-    no_free_segment: Option<String>,
-    slips: SlipsJson,
-}
-
-#[derive(Serialize)]
-struct SegmentJson {
-    start_s: f64,
-    end_s: f64,
-    samples: usize,
-    start: String,
-    end: String,
-}
-
-#[derive(Serialize)]
-struct StillJson {
-    from_s: f64,
-    to_s: f64,
-    deflection_rad: f64,
-    held: bool,
-}
-
-#[derive(Serialize)]
-struct SlipsJson {
-    count: usize,
-    doubled: usize,
-    repeated: usize,
-    phase_late: usize,
-    phase_early: usize,
-    bursts: usize,
-    period_s: Option<f64>,
-    judged_steps: usize,
-    first_s: Vec<f64>,
-}
-
-#[derive(Serialize)]
-struct GapJson {
-    start_s: f64,
-    length_s: f64,
 }
 
 /// Run `check`.
@@ -114,67 +39,7 @@ pub fn run(args: &CheckArgs) -> CmdResult {
         );
     }
     if args.json {
-        let j = CheckJson {
-            source: log.source(),
-            samples: s.samples,
-            duration_s: s.duration_s,
-            rate_hz: s.rate_hz,
-            jitter: s.jitter,
-            gaps: s
-                .gaps
-                .iter()
-                .map(|g| GapJson { start_s: g.start_s, length_s: g.length_s })
-                .collect(),
-            angle_min_rad: s.angle_range.0,
-            angle_max_rad: s.angle_range.1,
-            rest_from_s: s.rest_from_s,
-            equilibrium_rad: s.equilibrium_rad,
-            period_s: s.period_s,
-            period_small_amplitude_s: s.period_small_amplitude_s,
-            crossings: s.crossings.len(),
-            half_cycles: s.peaks.len(),
-            first_peak_rad: s.peaks.first().map(|p| p.deflection),
-            noise_rad: s.noise_rad,
-            encoder_step_rad: s.encoder_step_rad,
-            dropped_lines: dropped,
-            free_segments: seg
-                .segments
-                .iter()
-                .map(|g| SegmentJson {
-                    start_s: g.start_s,
-                    end_s: g.end_s,
-                    samples: g.end - g.start,
-                    start: segment::start_words(&g.start_cause, g.start_s),
-                    end: segment::end_words(&g.end_cause, g.end_s),
-                })
-                .collect(),
-            still: seg
-                .still
-                .iter()
-                .map(|x| StillJson {
-                    from_s: x.from_s,
-                    to_s: x.to_s,
-                    deflection_rad: x.deflection_rad,
-                    held: x.held,
-                })
-                .collect(),
-            forced_half_cycles: seg.forced.iter().map(|&(a, b)| [a, b]).collect(),
-            no_free_segment: seg.refusal.clone(),
-            slips: SlipsJson {
-                count: s.slips.count(),
-                doubled: s.slips.count_of(SlipKind::Doubled),
-                repeated: s.slips.count_of(SlipKind::Repeated),
-                phase_late: s.slips.count_of(SlipKind::PhaseLate),
-                phase_early: s.slips.count_of(SlipKind::PhaseEarly),
-                bursts: s.slips.bursts,
-                period_s: s.slips.period_s,
-                judged_steps: s.slips.judged_steps,
-                first_s: s.slips.slips.iter().take(20).map(|x| x.t).collect(),
-            },
-        };
-        let text = serde_json::to_string_pretty(&j)
-            .map_err(|e| Failure::input(format!("cannot write json: {e}")))?;
-        println!("{text}");
+        print!("{}", wire::to_pretty(&wire::check::check_doc(&log, &s, &seg)));
         return Ok(());
     }
     let mut rows = summary_lines(log.source(), &s, dropped);

@@ -8,7 +8,8 @@ use super::fit::{EstimatorArgs, RUN_CONFLICTS, load_given};
 use super::{CmdResult, Failure, LoaderArgs};
 use crate::fit::compare::{self, CompareOptions};
 use crate::model::DampingSet;
-use crate::report::{atomic, json, table};
+use crate::report::wire;
+use crate::report::{atomic, table};
 
 /// Arguments of `compare`.
 #[derive(Args, Debug)]
@@ -56,7 +57,7 @@ pub fn run(args: &CompareArgs) -> CmdResult {
     let logs = load_given(&args.runs, &args.logs, &args.loader)?;
     let c = compare::compare(&logs, &CompareOptions { candidates, fit });
     if let Some(path) = &args.json {
-        let doc = json::to_pretty(&json::compare_doc(&c));
+        let doc = wire::to_pretty(&wire::compare::compare_doc(&c));
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
     }

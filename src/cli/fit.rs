@@ -11,7 +11,8 @@ use crate::fit::workflow::{self, Chosen, DampingChoice};
 use crate::fit::{FitOptions, FitOutcome};
 use crate::model::DampingSet;
 use crate::physical::{self, ArticleInputs, Gravity, Measured, PhysicalCoefficients};
-use crate::report::{atomic, json, plot, table};
+use crate::report::wire::{self, fit as json};
+use crate::report::{atomic, plot, table};
 
 /// The article's mass properties and the local gravity, for physical coefficients.
 #[derive(Args, Debug, Clone, Default)]
@@ -285,7 +286,7 @@ pub fn run(args: &FitArgs) -> CmdResult {
         let mut doc = json::fit_doc(outcome, physical.as_ref());
         doc.damping_choice = Some(choice.clone());
         doc.inputs = physical.as_ref().and(article.as_ref()).map(json::inputs_doc);
-        let doc = json::to_pretty(&doc);
+        let doc = wire::to_pretty(&doc);
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
     }

@@ -6,11 +6,11 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::fit::{ArticleArgs, article};
-use super::simulate::params;
 use super::{CmdResult, Failure};
 use crate::model::{DampingSet, Physics, Term};
 use crate::plan::{self, Design, Plan, Record, search};
-use crate::report::{atomic, json, plan as report};
+use crate::report::wire::{self, params};
+use crate::report::{atomic, plan as report};
 
 /// Arguments of `plan`.
 #[derive(Args, Debug)]
@@ -193,7 +193,7 @@ pub fn run(args: &PlanArgs) -> CmdResult {
         _ => Failure::input(e),
     })?;
     if let Some(path) = &args.json {
-        let doc = json::to_pretty(&report::plan_doc(&plan, &pred, None));
+        let doc = wire::to_pretty(&report::plan_doc(&plan, &pred, None));
         atomic::write_atomic(path, doc.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;
     }
@@ -219,7 +219,7 @@ fn run_search(args: &PlanArgs, base: &Plan, targets: &str) -> CmdResult {
             let plan = Plan { design: f.design.clone(), ..base.clone() };
             if let Some(path) = &args.json {
                 let doc =
-                    json::to_pretty(&report::plan_doc(&plan, &f.prediction, Some(search_doc)));
+                    wire::to_pretty(&report::plan_doc(&plan, &f.prediction, Some(search_doc)));
                 atomic::write_atomic(path, doc.as_bytes()).map_err(|e| {
                     Failure::input(format!("{}: cannot write: {e}", path.display()))
                 })?;

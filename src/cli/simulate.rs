@@ -1,11 +1,9 @@
 //! `swingfit simulate`: integrate the model and write a log the loader reads.
 //!
-//! The parameters come from a params JSON or a fit result ([`params`]); the sample times from
+//! The parameters come from a params JSON or a fit result (`report::wire::params`); the sample times from
 //! `--duration`/`--rate` or from an existing log (`--times`, so that a fitted model can be
 //! replayed over the measurement). Everything is checked and computed before anything is
 //! written, and `--out` is written atomically, so a bad input never leaves an output file.
-
-pub(super) mod params;
 
 use std::io::Write as _;
 use std::path::PathBuf;
@@ -18,6 +16,7 @@ use crate::data::{self, LoadOptions};
 use crate::integrate::{self, Method};
 use crate::model::Term;
 use crate::report::atomic::write_atomic;
+use crate::report::wire::params;
 
 /// Relative tolerance of the default Dormand–Prince integration.
 pub const DP_RTOL: f64 = 1e-12;

@@ -2,7 +2,7 @@
 //!
 //! A test engineer hands the sheet on: `sheet.html` (self-contained, inline SVG, no scripts, A4
 //! print layout), `sheet.md` (the same as text), `sheet.json` (every number, schema
-//! [`SHEET_SCHEMA`], embedding the fit document of [`crate::report::json`]) and every plot as SVG
+//! [`SHEET_SCHEMA`], embedding the fit document of [`crate::report::wire::fit`]) and every plot as SVG
 //! and PNG. The directory is built beside its destination and renamed into place only when
 //! complete ([`write_sheet`]), so a failed run leaves nothing behind and an existing sheet is
 //! replaced only on request.
@@ -237,6 +237,6 @@ pub mod wire {
         /// Provenance.
         pub provenance: super::Provenance,
         /// The fit document.
-        pub fit: crate::report::json::FitDoc,
+        pub fit: crate::report::wire::fit::FitDoc,
     }
 }

@@ -13,3 +13,4 @@ mod runs;
 mod segment;
 mod sheet;
 mod simulate;
+mod wire;

@@ -7,8 +7,8 @@
 use crate::fit::FitOutcome;
 use crate::fit::compare::Comparison;
 use crate::physical::PhysicalCoefficients;
-use crate::report::json;
 use crate::report::plot::{Chart, RunView};
+use crate::report::wire::fit as json;
 
 use super::provenance::Provenance;
 use super::{SHEET_SCHEMA, wire};

@@ -5,7 +5,7 @@
 use std::fs;
 use std::path::{Path, PathBuf};
 
-use crate::report::{json, plot};
+use crate::report::{plot, wire};
 
 use super::html::sheet_html;
 use super::install::{check_destination, install, staging_dir};
@@ -71,7 +71,7 @@ pub fn render_into(dir: &Path, input: &SheetInput<'_>) -> Result<Vec<String>, Sh
         files.push(name.to_string());
         Ok::<(), SheetError>(())
     };
-    put("sheet.json", &json::to_pretty(&doc), &mut files)?;
+    put("sheet.json", &wire::to_pretty(&doc), &mut files)?;
     put("sheet.md", &sheet_markdown(&doc), &mut files)?;
     put("sheet.html", &sheet_html(&doc, &svgs), &mut files)?;
     Ok(files)

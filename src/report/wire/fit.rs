@@ -1,4 +1,7 @@
-//! JSON wire formats, serialize-only; the core types are not `Serialize`.
+//! The fit document `swingfit.fit.v1` (`fit --json`, embedded in the sheet): coefficients with
+//! their uncertainties, per run, fit statistics, correlations, the GUM budget and the adequacy
+//! verdict. Built from a `FitOutcome` by [`fit_doc`]; read back by `serde` (and, in part, by
+//! [`super::params`]).
 //!
 //! ## Wire format `swingfit.fit.v1`
 //! ```text
@@ -32,7 +35,7 @@
 //! kg·m², viscous N·m·s/rad, coulomb N·m, quadratic N·m·s²/rad²; angles rad; velocity rad/s; rss rad².
 //! Terms not fitted are absent. `swingfit simulate --params` reads this file back.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::fit::{Estimate, FitOutcome};
 use crate::model::Term;
@@ -42,11 +45,13 @@ use crate::physical::PhysicalCoefficients;
 pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
 
 /// A value with its uncertainty, on the wire.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct P {
     /// Best estimate.
+    #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Standard uncertainty.
+    #[serde(deserialize_with = "super::real")]
     pub std: f64,
     /// 95 % interval (for physical values: value ± expanded uncertainty, k = 2).
     pub ci95: [f64; 2],
@@ -82,7 +87,7 @@ impl From<&crate::physical::Quantity> for P {
 }
 
 /// Per-unit-inertia block.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Normalized {
     /// ωn.
     pub omega_n: P,
@@ -101,7 +106,7 @@ pub struct Normalized {
 }
 
 /// Physical block.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Physical {
     /// J about the pivot.
     pub inertia_pivot: P,
@@ -140,18 +145,20 @@ pub struct Physical {
 }
 
 /// Gravity used.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Gravity {
     /// g [m/s²].
+    #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Standard uncertainty [m/s²].
+    #[serde(deserialize_with = "super::real")]
     pub std: f64,
     /// Where it came from, in words.
     pub source: String,
 }
 
 /// One run.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Run {
     /// Log file.
     pub file: String,
@@ -164,15 +171,18 @@ pub struct Run {
     /// ω at the first sample.
     pub initial_velocity: P,
     /// RMS residual [rad].
+    #[serde(deserialize_with = "super::real")]
     pub rms_residual: f64,
     /// Survey noise floor [rad].
+    #[serde(deserialize_with = "super::real")]
     pub noise_floor: f64,
     /// Ljung–Box p-value of the residuals.
+    #[serde(deserialize_with = "super::real")]
     pub ljung_box_p: f64,
 }
 
 /// Fit statistics.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct FitStats {
     /// Always true: a failed fit writes no JSON.
     pub converged: bool,
@@ -181,6 +191,7 @@ pub struct FitStats {
     /// Iterations over all continuation stages.
     pub iterations_total: usize,
     /// Residual sum of squares [rad²].
+    #[serde(deserialize_with = "super::real")]
     pub rss: f64,
     /// Degrees of freedom.
     pub dof: usize,
@@ -189,15 +200,17 @@ pub struct FitStats {
     /// Criterion that ended the fit.
     pub convergence: String,
     /// Condition number of the scaled normal equations.
+    #[serde(deserialize_with = "super::real")]
     pub condition_number: f64,
     /// How the intervals were made.
     pub interval_method: String,
     /// Coverage factor used for the 95 % intervals.
+    #[serde(deserialize_with = "super::real")]
     pub t95: f64,
 }
 
 /// Correlation matrix with its labels.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Correlation {
     /// Parameter names.
     pub names: Vec<String>,
@@ -206,7 +219,7 @@ pub struct Correlation {
 }
 
 /// Fitted and start parameter vectors.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Vector {
     /// At the minimum.
     pub fitted: Vec<f64>,
@@ -215,10 +228,10 @@ pub struct Vector {
 }
 
 /// The adequacy verdict with its figures (see `fit::adequacy`).
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct AdequacyDoc {
     /// `explained`, `approximate` or `not_explained`.
-    pub verdict: &'static str,
+    pub verdict: String,
     /// The residual structure looks like sensor noise (coloured or drifting), not a missing term.
     pub sensor_like: bool,
     /// Time-base slips left in the fitted samples (named as a cause when not explained).
@@ -226,33 +239,44 @@ pub struct AdequacyDoc {
     /// The verdict in words.
     pub summary: String,
     /// Worst RMS residual / survey noise floor.
+    #[serde(deserialize_with = "super::real")]
     pub noise_ratio: f64,
     /// Smallest Ljung–Box p.
+    #[serde(deserialize_with = "super::real")]
     pub whiteness_p: f64,
     /// Worst swing-locked over off-swing residual power (κ).
+    #[serde(deserialize_with = "super::real")]
     pub swing_locked: f64,
     /// Worst relative RMS error of half-cycle peak-to-peak amplitudes.
+    #[serde(deserialize_with = "super::real")]
     pub amplitude_error: f64,
     /// Worst RMS error of cycle durations relative to the period.
+    #[serde(deserialize_with = "super::real")]
     pub duration_error: f64,
     /// Per run.
     pub runs: Vec<AdequacyRunDoc>,
 }
 
 /// The adequacy figures of one run.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct AdequacyRunDoc {
     /// RMS residual / survey noise floor.
+    #[serde(deserialize_with = "super::real")]
     pub noise_ratio: f64,
     /// Ljung–Box p.
+    #[serde(deserialize_with = "super::real")]
     pub whiteness_p: f64,
     /// Lag-1 autocorrelation of the residuals.
+    #[serde(deserialize_with = "super::real")]
     pub lag1: f64,
     /// κ.
+    #[serde(deserialize_with = "super::real")]
     pub swing_locked: f64,
     /// Relative RMS error of half-cycle peak-to-peak amplitudes.
+    #[serde(deserialize_with = "super::real")]
     pub amplitude_error: f64,
     /// RMS error of cycle durations relative to the period.
+    #[serde(deserialize_with = "super::real")]
     pub duration_error: f64,
     /// Half cycles compared.
     pub half_cycles: usize,
@@ -261,7 +285,7 @@ pub struct AdequacyRunDoc {
 /// The adequacy block of a fit.
 pub fn adequacy_doc(a: &crate::fit::adequacy::AdequacyReport) -> AdequacyDoc {
     AdequacyDoc {
-        verdict: a.verdict.name(),
+        verdict: a.verdict.name().into(),
         sensor_like: a.sensor_like,
         time_base_slips: a.time_base_slips,
         summary: crate::report::verdict::adequacy_line(a),
@@ -287,14 +311,16 @@ pub fn adequacy_doc(a: &crate::fit::adequacy::AdequacyReport) -> AdequacyDoc {
 }
 
 /// An input of the physical coefficients as the user stated it.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct InputDoc {
     /// Value.
+    #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Standard uncertainty (0 when none was given).
+    #[serde(deserialize_with = "super::real")]
     pub std: f64,
     /// SI unit.
-    pub unit: &'static str,
+    pub unit: String,
     /// Whether an uncertainty was given.
     pub stated: bool,
     /// "taken as exact …" when none was given.
@@ -302,7 +328,7 @@ pub struct InputDoc {
 }
 
 /// The stated inputs.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct InputsDoc {
     /// Mass.
     pub mass: InputDoc,
@@ -317,7 +343,7 @@ pub fn inputs_doc(a: &crate::physical::ArticleInputs) -> InputsDoc {
     let one = |value: f64, u: f64, unit: &'static str| InputDoc {
         value,
         std: u,
-        unit,
+        unit: unit.into(),
         stated: u > 0.0,
         note: (u <= 0.0).then(|| "taken as exact: no uncertainty given".to_string()),
     };
@@ -336,12 +362,12 @@ pub fn inputs_doc(a: &crate::physical::ArticleInputs) -> InputsDoc {
 }
 
 /// The whole fit document.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct FitDoc {
     /// `swingfit.fit.v1`.
-    pub schema: &'static str,
+    pub schema: String,
     /// Fitted terms.
-    pub damping: Vec<&'static str>,
+    pub damping: Vec<String>,
     /// Per unit inertia.
     pub normalized: Normalized,
     /// Physical, when mass and pivot-to-CG were given.
@@ -374,53 +400,63 @@ pub struct FitDoc {
 }
 
 /// One input of a budget on the wire.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct BudgetInputDoc {
     /// Input key (`mass`, `pivot_to_cg`, `gravity`, `omega_n`, `viscous`, …).
-    pub input: &'static str,
+    pub input: String,
     /// Value of the input.
+    #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Unit of the input.
-    pub unit: &'static str,
+    pub unit: String,
     /// Standard uncertainty u(x_i), unit of the input.
+    #[serde(deserialize_with = "super::real")]
     pub std: f64,
     /// Sensitivity coefficient c_i = dy/dx_i.
+    #[serde(deserialize_with = "super::real")]
     pub sensitivity: f64,
     /// Unit of c_i.
     pub sensitivity_unit: String,
     /// u_i(y) = |c_i| u(x_i), unit of y.
+    #[serde(deserialize_with = "super::real")]
     pub contribution: f64,
     /// c_i² u²(x_i) / u_c², unit 1.
+    #[serde(deserialize_with = "super::real")]
     pub share: f64,
 }
 
 /// One correlation term of a budget on the wire.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct BudgetCorrelationDoc {
     /// First input key.
-    pub a: &'static str,
+    pub a: String,
     /// Second input key.
-    pub b: &'static str,
+    pub b: String,
     /// r(x_a, x_b), unit 1.
+    #[serde(deserialize_with = "super::real")]
     pub r: f64,
     /// 2 c_a c_b u(x_a, x_b), unit of y squared.
+    #[serde(deserialize_with = "super::real")]
     pub term: f64,
     /// Unit of `term`.
     pub term_unit: String,
     /// term / u_c², unit 1 (negative: the correlation lowers u_c).
+    #[serde(deserialize_with = "super::real")]
     pub share: f64,
 }
 
 /// The GUM budget of one physical value on the wire.
-#[derive(Serialize, Debug, Clone, PartialEq)]
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct BudgetDoc {
     /// Key of the value in `physical`.
-    pub quantity: &'static str,
+    pub quantity: String,
     /// Value.
+    #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Unit.
-    pub unit: &'static str,
+    pub unit: String,
     /// Combined standard uncertainty u_c.
+    #[serde(deserialize_with = "super::real")]
     pub std: f64,
     /// The inputs.
     pub inputs: Vec<BudgetInputDoc>,
@@ -437,17 +473,17 @@ fn unit_ratio(y: &str, x: &str) -> String {
 pub fn budget_doc(b: &crate::physical::budget::Budget) -> BudgetDoc {
     let squared = if b.unit == "1" { "1".to_string() } else { format!("({})^2", b.unit) };
     BudgetDoc {
-        quantity: b.key,
+        quantity: b.key.into(),
         value: b.value,
-        unit: b.unit,
+        unit: b.unit.into(),
         std: b.u_c,
         inputs: b
             .inputs
             .iter()
             .map(|l| BudgetInputDoc {
-                input: l.key,
+                input: l.key.into(),
                 value: l.value,
-                unit: l.unit,
+                unit: l.unit.into(),
                 std: l.u,
                 sensitivity: l.sensitivity,
                 sensitivity_unit: unit_ratio(b.unit, l.unit),
@@ -459,8 +495,8 @@ pub fn budget_doc(b: &crate::physical::budget::Budget) -> BudgetDoc {
             .correlations
             .iter()
             .map(|c| BudgetCorrelationDoc {
-                a: c.a,
-                b: c.b,
+                a: c.a.into(),
+                b: c.b.into(),
                 r: c.r,
                 term: c.term,
                 term_unit: squared.clone(),
@@ -474,8 +510,8 @@ pub fn budget_doc(b: &crate::physical::budget::Budget) -> BudgetDoc {
 pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> FitDoc {
     let term = |t: Term| fit.term(t).map(P::from);
     FitDoc {
-        schema: FIT_SCHEMA,
-        damping: fit.damping.names(),
+        schema: FIT_SCHEMA.into(),
+        damping: super::names(fit.damping),
         normalized: Normalized {
             omega_n: P::from(&fit.omega_n),
             viscous: term(Term::Viscous),
@@ -544,148 +580,5 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
         adequacy: adequacy_doc(&fit.adequacy),
         damping_choice: None,
         inputs: None,
-    }
-}
-
-/// Serialize any wire document as pretty JSON with a final newline.
-pub fn to_pretty<T: Serialize>(doc: &T) -> String {
-    // Serializing these plain structs cannot fail (no maps with non-string keys); NaN becomes null.
-    let mut s =
-        serde_json::to_string_pretty(doc).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
-    s.push('\n');
-    s
-}
-
-/// Schema tag of the comparison JSON.
-pub const COMPARE_SCHEMA: &str = "swingfit.compare.v1";
-
-/// One candidate on the wire.
-#[derive(Serialize, Debug, Clone, PartialEq)]
-pub struct CandidateDoc {
-    /// Damping set.
-    pub damping: Vec<&'static str>,
-    /// `ok` or `failed`.
-    pub status: &'static str,
-    /// Why the fit failed.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub reason: Option<String>,
-    /// RSS [rad²].
-    pub rss: f64,
-    /// Gaussian AIC.
-    pub aic: f64,
-    /// Gaussian BIC.
-    pub bic: f64,
-    /// Smallest Ljung–Box p over runs.
-    pub ljung_box_p: f64,
-    /// RMS residual [rad].
-    pub rms_residual: f64,
-    /// Largest RMS residual / noise floor over runs.
-    pub noise_ratio: f64,
-    /// Every term's 95 % interval excludes zero.
-    pub all_significant: bool,
-    /// Explains the decay (adequacy `explained`).
-    pub explains_decay: bool,
-    /// The candidate fit's adequacy verdict (absent when it failed).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub adequacy: Option<AdequacyDoc>,
-    /// Per-unit-inertia estimates.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub normalized: Option<Normalized>,
-    /// Wald tests of the term added to each nested candidate with one term fewer.
-    pub added_terms: Vec<AddedTermDoc>,
-    /// Model half-cycle peaks per run: [t s, deflection rad].
-    pub model_peaks: Vec<Vec<[f64; 2]>>,
-}
-
-/// One nested F-test.
-#[derive(Serialize, Debug, Clone, PartialEq)]
-pub struct AddedTermDoc {
-    /// The smaller set.
-    pub from: Vec<&'static str>,
-    /// The term added.
-    pub term: &'static str,
-    /// F statistic.
-    pub f: f64,
-    /// Upper-tail p-value.
-    pub p_value: f64,
-}
-
-/// The comparison document.
-#[derive(Serialize, Debug, Clone, PartialEq)]
-pub struct CompareDoc {
-    /// `swingfit.compare.v1`.
-    pub schema: &'static str,
-    /// The chosen set; null when no candidate explains the decay.
-    pub best: Option<Vec<&'static str>>,
-    /// Whether a candidate explains the decay.
-    pub explained: bool,
-    /// Sets indistinguishable from the best.
-    pub indistinguishable: Vec<Vec<&'static str>>,
-    /// Ranked candidates.
-    pub candidates: Vec<CandidateDoc>,
-    /// Verdict in words.
-    pub verdict: String,
-    /// The set `fit` and `sheet` take by default: the best, or the least bad when none explains.
-    pub selected: Option<Vec<&'static str>>,
-    /// Envelope laws on the measured peaks with RMS misfit [rad], best first.
-    pub envelope_laws: Vec<(&'static str, f64)>,
-    /// Measured half-cycle peaks per run: [t s, deflection rad].
-    pub measured_peaks: Vec<Vec<[f64; 2]>>,
-    /// Measured period per cycle per run: [amplitude rad, period s].
-    pub period_points: Vec<Vec<[f64; 2]>>,
-    /// Model period against amplitude: [amplitude rad, period s].
-    pub period_curve: Vec<[f64; 2]>,
-}
-
-/// Build the comparison document.
-pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
-    let peaks = |v: &Vec<Vec<crate::data::survey::Peak>>| -> Vec<Vec<[f64; 2]>> {
-        v.iter().map(|r| r.iter().map(|p| [p.t, p.deflection]).collect()).collect()
-    };
-    CompareDoc {
-        schema: COMPARE_SCHEMA,
-        best: c.best.map(|b| b.names()),
-        explained: c.explained,
-        indistinguishable: c.ties.iter().map(|t| t.names()).collect(),
-        candidates: c
-            .candidates
-            .iter()
-            .map(|e| CandidateDoc {
-                damping: e.damping.names(),
-                status: if e.fit.is_ok() { "ok" } else { "failed" },
-                reason: e.fit.as_ref().err().map(|x| x.to_string()),
-                rss: e.rss,
-                aic: e.aic,
-                bic: e.bic,
-                ljung_box_p: e.ljung_box_p,
-                rms_residual: e.rms_residual,
-                noise_ratio: e.noise_ratio,
-                all_significant: e.all_significant,
-                explains_decay: e.explains_decay,
-                adequacy: e.outcome().map(|f| adequacy_doc(&f.adequacy)),
-                normalized: e.outcome().map(|f| fit_doc(f, None).normalized),
-                added_terms: e
-                    .added_terms
-                    .iter()
-                    .map(|a| AddedTermDoc {
-                        from: a.from.names(),
-                        term: a.term.name(),
-                        f: a.f,
-                        p_value: a.p_value,
-                    })
-                    .collect(),
-                model_peaks: peaks(&e.model_peaks),
-            })
-            .collect(),
-        verdict: crate::report::verdict::comparison(c),
-        selected: c.selected().map(|f| f.damping.names()),
-        envelope_laws: c.envelope.laws.iter().map(|(l, r)| (l.name(), *r)).collect(),
-        measured_peaks: peaks(&c.measured_peaks),
-        period_points: c
-            .period_points
-            .iter()
-            .map(|r| r.iter().map(|p| [p.amplitude, p.period]).collect())
-            .collect(),
-        period_curve: c.period_curve.iter().map(|(a, t)| [*a, *t]).collect(),
     }
 }
