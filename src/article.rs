@@ -140,6 +140,12 @@ struct RawRun {
     #[serde(default)]
     counts_per_rev: Option<Spanned<f64>>,
     #[serde(default)]
+    counts_wrap: Option<Spanned<i64>>,
+    #[serde(default)]
+    skip_lines: Option<Spanned<i64>>,
+    #[serde(default)]
+    rate: Option<Spanned<f64>>,
+    #[serde(default)]
     drop_bad_rows: bool,
     #[serde(default)]
     from: Option<Spanned<f64>>,
@@ -335,6 +341,34 @@ fn check_run(cx: &Ctx<'_>, r: RawRun, prefix: &str, base: &Path) -> Result<RunSp
             Some(cx.positive(c, &key("counts_per_rev"), "number of counts per revolution")?)
         }
     };
+    let counts_wrap = match &r.counts_wrap {
+        None => None,
+        Some(b) if [8, 16, 24, 32].contains(b.get_ref()) => Some(*b.get_ref() as u32),
+        Some(b) => {
+            return Err(cx.at(
+                b.span(),
+                &key("counts_wrap"),
+                format!("expected a counter width of 8, 16, 24 or 32 bits, found {}", b.get_ref()),
+            ));
+        }
+    };
+    let skip_lines = match &r.skip_lines {
+        None => None,
+        Some(n) => match usize::try_from(*n.get_ref()) {
+            Ok(n) => Some(n),
+            Err(_) => {
+                return Err(cx.at(
+                    n.span(),
+                    &key("skip_lines"),
+                    format!("expected a number of lines, 0 or more, found {}", n.get_ref()),
+                ));
+            }
+        },
+    };
+    let rate_hz = match &r.rate {
+        None => None,
+        Some(hz) => Some(cx.positive(hz, &key("rate"), "sample rate in samples per second")?),
+    };
     Ok(RunSpec {
         label: r.label,
         log: base.join(&log_as_written),
@@ -345,7 +379,9 @@ fn check_run(cx: &Ctx<'_>, r: RawRun, prefix: &str, base: &Path) -> Result<RunSp
             time_unit,
             angle_unit,
             counts_per_rev,
-            counts_wrap: None,
+            counts_wrap,
+            skip_lines,
+            rate_hz,
             drop_bad_rows: r.drop_bad_rows,
             from_s: time_key(&r.from, "from")?,
             to_s: time_key(&r.to, "to")?,

@@ -97,6 +97,14 @@ pub struct LoaderArgs {
     /// Encoder counter width in bits when its readings wrap (8, 16, 24 or 32): unwrap them.
     #[arg(long, value_name = "BITS")]
     pub counts_wrap: Option<u32>,
+    /// Skip the first N lines of the file (a preamble above the header that is not found
+    /// by itself).
+    #[arg(long, value_name = "N")]
+    pub skip_lines: Option<usize>,
+    /// Samples per second, for a log with no time column (row k at k / HZ s); overrides a
+    /// time column and a rate stated in the file.
+    #[arg(long, value_name = "HZ")]
+    pub rate: Option<f64>,
     /// Drop rows with unparseable or non-finite values (reported) instead of refusing the file.
     #[arg(long)]
     pub drop_bad_rows: bool,
@@ -121,6 +129,8 @@ impl LoaderArgs {
             angle_unit: self.angle_unit.clone(),
             counts_per_rev: self.counts_per_rev,
             counts_wrap: self.counts_wrap,
+            skip_lines: self.skip_lines,
+            rate_hz: self.rate,
             drop_bad_rows: self.drop_bad_rows,
             from_s: self.from,
             to_s: self.to,

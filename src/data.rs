@@ -6,12 +6,15 @@
 //! downstream may assume a fixed rate.
 
 mod read;
+pub use read::{MAX_PREAMBLE, Stated, is_rate_key};
 pub mod segment;
 pub mod slips;
 pub mod survey;
 pub mod write;
 
 use std::path::Path;
+
+use crate::units;
 
 /// Fewest samples a log may have and still be fitted.
 pub const MIN_SAMPLES: usize = 50;
@@ -24,6 +27,79 @@ pub struct AngleLog {
     angles: Vec<f64>,
     angle_step: Option<f64>,
     dropped_lines: Vec<u64>,
+    layout: Layout,
+}
+
+/// Where a log's table was found in its file and where its times came from, for `check`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Layout {
+    /// 1-based line of the header row; `None` for rows of angles with no header.
+    pub header_line: Option<u64>,
+    /// Content lines above the table (title, metadata) that were not read as data.
+    pub preamble_lines: usize,
+    /// Where the sample times come from.
+    pub time: TimeBase,
+    /// The angle column's header name (`None` without a header).
+    pub angle_column: Option<String>,
+}
+
+/// Where the sample times of a log come from.
+#[derive(Clone, Debug, PartialEq)]
+pub enum TimeBase {
+    /// A time column, by its header name, in a unit.
+    Column {
+        /// Header name.
+        name: String,
+        /// Unit the column was read in.
+        unit: units::TimeUnit,
+    },
+    /// A steady sample rate: row k of the table is at k / hz seconds.
+    Rate {
+        /// Samples per second.
+        hz: f64,
+        /// Where the rate was given.
+        source: RateSource,
+    },
+}
+
+/// Where a sample rate was given.
+#[derive(Clone, Debug, PartialEq)]
+pub enum RateSource {
+    /// On the command line (`--rate`) or as the run's `rate` key.
+    Option,
+    /// Stated in the file's preamble, at `line`, under the name `key`.
+    Stated {
+        /// 1-based line of the value.
+        line: u64,
+        /// The name the file gives it.
+        key: String,
+    },
+}
+
+impl Layout {
+    /// The layout of samples given in memory (no file).
+    fn samples() -> Layout {
+        Layout {
+            header_line: None,
+            preamble_lines: 0,
+            time: TimeBase::Column { name: "t".into(), unit: units::TimeUnit::Seconds },
+            angle_column: None,
+        }
+    }
+
+    /// One line saying where the times came from: `column 'time_s' in s`, `1000 Hz, stated at
+    /// line 2 ('sample_rate')`, `500 Hz from --rate`.
+    pub fn time_words(&self) -> String {
+        match &self.time {
+            TimeBase::Column { name, unit } => format!("column '{name}' in {unit}"),
+            TimeBase::Rate { hz, source: RateSource::Option } => {
+                format!("steady rate {hz} Hz given as an option (--rate or the run's rate key)")
+            }
+            TimeBase::Rate { hz, source: RateSource::Stated { line, key } } => {
+                format!("steady rate {hz} Hz stated in the file at line {line} ('{key}')")
+            }
+        }
+    }
 }
 
 impl AngleLog {
@@ -43,6 +119,7 @@ impl AngleLog {
             angles,
             angle_step: None,
             dropped_lines: Vec::new(),
+            layout: Layout::samples(),
         })
     }
 
@@ -74,6 +151,10 @@ impl AngleLog {
     pub fn dropped_lines(&self) -> &[u64] {
         &self.dropped_lines
     }
+    /// Where the table was found in the file and where the times came from.
+    pub fn layout(&self) -> &Layout {
+        &self.layout
+    }
 
     /// Samples `start..end` as a log of their own named `source`, with the same checks as the
     /// loader (so a slice too short or without two swings is refused). Keeps the encoder step.
@@ -90,6 +171,7 @@ impl AngleLog {
             angles,
             angle_step: self.angle_step,
             dropped_lines: self.dropped_lines.clone(),
+            layout: self.layout.clone(),
         })
     }
 }
@@ -110,6 +192,12 @@ pub struct LoadOptions {
     /// Encoder counter width in bits (8, 16, 24 or 32) when its readings wrap: unwrapped on
     /// reading. Without it a jump of over half the counts range between samples is refused.
     pub counts_wrap: Option<u32>,
+    /// Lines at the top of the file to skip before the header (a preamble the header
+    /// detection does not see through); `None` finds the header (see [`read`]).
+    pub skip_lines: Option<usize>,
+    /// Samples per second of a log with no time column: row k is at k / rate. Overrides a time
+    /// column and a rate the file states.
+    pub rate_hz: Option<f64>,
     /// Drop unparseable or non-finite rows instead of refusing the file.
     pub drop_bad_rows: bool,
     /// Fit from this time on the log's axis [s] instead of the detected release
@@ -191,6 +279,7 @@ pub fn parse(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<AngleLog, L
         angles: table.angles,
         angle_step: table.angle_step,
         dropped_lines: table.dropped_lines,
+        layout: table.layout,
     })
 }
 

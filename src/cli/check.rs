@@ -43,11 +43,27 @@ pub fn run(args: &CheckArgs) -> CmdResult {
         return Ok(());
     }
     let mut rows = summary_lines(log.source(), &s, dropped);
+    rows.splice(1..1, layout_lines(log.layout()));
     rows.extend(motion_lines(&s, &seg));
     for (label, value) in rows {
         println!("{label:<14} {value}");
     }
     Ok(())
+}
+
+/// Where the table was found and where the times came from, as (label, value) rows.
+fn layout_lines(l: &data::Layout) -> Vec<(&'static str, String)> {
+    let table = match (l.header_line, &l.angle_column) {
+        (Some(h), Some(a)) => format!("header at line {h}, angle column '{a}'"),
+        (Some(h), None) => format!("header at line {h}"),
+        (None, _) => "no header: one angle a row".to_string(),
+    };
+    let above = match l.preamble_lines {
+        0 => String::new(),
+        1 => ", 1 preamble line above it".to_string(),
+        n => format!(", {n} preamble lines above it"),
+    };
+    vec![("table", format!("{table}{above}")), ("times from", l.time_words())]
 }
 
 /// Lines as "7, 12, 40" (the first 20, then a count).

@@ -126,7 +126,7 @@ pub struct FitArgs {
 }
 
 /// What `--run` cannot be combined with: logs given otherwise, or loader options for all logs.
-pub const RUN_CONFLICTS: [&str; 11] = [
+pub const RUN_CONFLICTS: [&str; 13] = [
     "logs",
     "time_col",
     "angle_col",
@@ -134,6 +134,8 @@ pub const RUN_CONFLICTS: [&str; 11] = [
     "angle_unit",
     "counts_per_rev",
     "counts_wrap",
+    "skip_lines",
+    "rate",
     "drop_bad_rows",
     "from",
     "to",

@@ -71,6 +71,8 @@ fn loader_of(o: &crate::data::LoadOptions) -> LoaderArgs {
         angle_unit: o.angle_unit.clone(),
         counts_per_rev: o.counts_per_rev,
         counts_wrap: o.counts_wrap,
+        skip_lines: o.skip_lines,
+        rate: o.rate_hz,
         drop_bad_rows: o.drop_bad_rows,
         from: o.from_s,
         to: o.to_s,

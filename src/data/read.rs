@@ -1,10 +1,23 @@
-//! Reading log text into columns of numbers: comment and blank lines, delimiter sniffing, column
-//! choice by name or index, units from header suffixes or options, and line-numbered errors.
+//! Reading log text into columns of numbers: the table below any preamble, delimiter sniffing,
+//! column choice by name or index, units from header suffixes, a units row or options, times
+//! from a column or from a sample rate, and line-numbered errors.
 //!
 //! This is the only code that looks at raw bytes. It works on lossily decoded UTF-8 and indexes
-//! nothing it has not checked, so it cannot panic on any input.
+//! nothing it has not checked, so it cannot panic on any input. Where the table starts is
+//! found in [`layout`]; what the header names mean, in [`names`].
 
-use super::{LoadError, LoadOptions};
+mod layout;
+mod names;
+
+pub use layout::{MAX_PREAMBLE, Stated, is_rate_key};
+
+use layout::{Delim, Start, number};
+use names::{
+    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, TIME_NAMES, bare_unit, choose, split_header,
+    unit_token, unitless,
+};
+
+use super::{Layout, LoadError, LoadOptions, RateSource, TimeBase};
 use crate::units::{AngleUnit, TimeUnit};
 
 /// Columns read from a file, in SI units, with the file line of every sample.
@@ -17,236 +30,16 @@ pub(super) struct Table {
     /// Units the columns were read in (for the plausibility messages).
     pub time_unit: TimeUnit,
     pub angle_unit: AngleUnit,
+    /// Where the table was found and where its times come from.
+    pub layout: Layout,
 }
 
-/// Field separator found in the header.
-#[derive(Clone, Copy, Debug, PartialEq)]
-enum Delim {
-    Char(char),
-    Whitespace,
-}
-
-impl Delim {
-    fn split(self, line: &str) -> Vec<&str> {
-        match self {
-            Delim::Char(c) => line.split(c).map(str::trim).collect(),
-            Delim::Whitespace => line.split_whitespace().collect(),
-        }
-    }
-    fn name(self) -> &'static str {
-        match self {
-            Delim::Char(',') => "commas",
-            Delim::Char(';') => "semicolons",
-            Delim::Char('\t') => "tabs",
-            Delim::Char(_) => "a separator",
-            Delim::Whitespace => "spaces",
-        }
-    }
-}
-
-/// Header names taken for the time column when none is chosen.
-/// A column named only by a unit (`ms`, `sec`) also counts, in that unit.
-const TIME_NAMES: &[&str] = &[
-    "t",
-    "time",
-    "timestamp",
-    "time_stamp",
-    "tstamp",
-    "elapsed",
-    "s",
-    "sec",
-    "secs",
-    "seconds",
-    "ms",
-    "msec",
-    "us",
-    "usec",
-];
-/// Header names taken for the angle column when none is chosen.
-const ANGLE_NAMES: &[&str] = &[
-    "angle",
-    "theta",
-    "θ",
-    "phi",
-    "pos",
-    "position",
-    "deflection",
-    "enc",
-    "encoder",
-    "counts",
-    "count",
-    "ticks",
-    "rad",
-    "radians",
-    "deg",
-    "degrees",
-];
-/// Angle names that mean encoder counts when no unit is given.
-const COUNT_NAMES: &[&str] = &["enc", "encoder", "counts", "count", "ticks"];
-
-/// A unit found in a header name.
-#[derive(Clone, Copy, Debug, PartialEq)]
-enum HeaderUnit {
-    Time(TimeUnit),
-    Angle(AngleUnit),
-}
-
-fn unit_token(tok: &str) -> Option<HeaderUnit> {
-    TimeUnit::parse(tok)
-        .map(HeaderUnit::Time)
-        .or_else(|| AngleUnit::parse(tok).map(HeaderUnit::Angle))
-}
-
-/// Split a header name into its base (lowercase) and unit: `t_ms`, `angle [deg]`, `time(s)`.
-fn split_header(name: &str) -> (String, Option<HeaderUnit>) {
-    let lower = name.trim().to_lowercase();
-    if let Some(open) = lower.find(['[', '(']) {
-        let inner = lower[open + 1..].trim_end_matches([']', ')']).trim();
-        if let Some(u) = unit_token(inner) {
-            return (lower[..open].trim().to_string(), Some(u));
-        }
-    }
-    if let Some(pos) = lower.rfind(['_', '-', ' ', '.']) {
-        let (base, suffix) = (&lower[..pos], &lower[pos + 1..]);
-        if let Some(u) = unit_token(suffix)
-            && !base.trim().is_empty()
-        {
-            return (base.trim().to_string(), Some(u));
-        }
-    }
-    (lower, None)
-}
-
-/// A unit token without the brackets or parentheses it may be written in: `[s]`, `( deg )`.
-fn bare_unit(s: &str) -> &str {
-    let s = s.trim();
-    s.strip_prefix(['[', '(']).and_then(|r| r.strip_suffix([']', ')'])).map_or(s, str::trim)
-}
-
-/// For a header name that gives no unit: the name to suggest a suffix on, and why (no unit
-/// written, or one swingfit does not know).
-fn unitless(name: &str) -> (String, String) {
-    let lower = name.trim().to_lowercase();
-    let (base, written) = match lower.find(['[', '(']) {
-        Some(open) => (
-            lower[..open].trim().to_string(),
-            Some(lower[open + 1..].trim_end_matches([']', ')']).trim().to_string()),
-        ),
-        None => match lower.rfind(['_', '-', ' ', '.']).filter(|&p| p > 0 && p + 1 < lower.len()) {
-            Some(p) => (lower[..p].to_string(), Some(lower[p + 1..].to_string())),
-            None => (lower.clone(), None),
-        },
-    };
-    let stem: String = base.chars().filter(|c| c.is_alphanumeric() || *c == '_').collect();
-    let stem = if stem.is_empty() { "col".to_string() } else { stem };
-    match written {
-        Some(w) if !w.is_empty() => (stem, format!("has a unit swingfit does not know ('{w}')")),
-        _ => (stem, "has no unit in its header".to_string()),
-    }
-}
-
-fn unquote(s: &str) -> &str {
-    let s = s.trim();
-    s.strip_prefix('"').and_then(|r| r.strip_suffix('"')).unwrap_or(s).trim()
-}
-
-/// Parse one number; with a delimiter other than comma a single decimal comma is accepted.
-fn number(field: &str, delim: Delim) -> Option<f64> {
-    let f = unquote(field);
-    if let Ok(v) = f.parse::<f64>() {
-        return Some(v);
-    }
-    if delim != Delim::Char(',') && f.matches(',').count() == 1 && !f.contains('.') {
-        return f.replace(',', ".").parse::<f64>().ok();
-    }
-    None
-}
-
-/// Pick the separator: the first of comma, semicolon, tab, whitespace that splits the header into
-/// at least two fields, preferring one that splits the first data rows the same way.
-fn sniff(header: &str, rows: &[&str]) -> Option<Delim> {
-    let cands = [Delim::Char(','), Delim::Char(';'), Delim::Char('\t'), Delim::Whitespace];
-    let fitting: Vec<(Delim, usize)> =
-        cands.iter().map(|&d| (d, d.split(header).len())).filter(|&(_, n)| n >= 2).collect();
-    fitting
-        .iter()
-        .find(|&&(d, n)| !rows.is_empty() && rows.iter().all(|r| d.split(r).len() == n))
-        .or_else(|| fitting.first())
-        .map(|&(d, _)| d)
-}
-
-/// Choose a column: by name or 1-based index when given, else by the usual names.
-fn choose(
-    err: &dyn Fn(Option<u64>, String) -> LoadError,
-    hline: u64,
-    header: &[String],
-    given: Option<&str>,
-    what: &str,
-    usual: &[&str],
-    flag: &str,
-) -> Result<usize, LoadError> {
-    let list = header.join(", ");
-    if let Some(g) = given {
-        let g = g.trim();
-        if !g.is_empty() && g.bytes().all(|b| b.is_ascii_digit()) {
-            return match g.parse::<usize>() {
-                Ok(i) if i >= 1 && i <= header.len() => Ok(i - 1),
-                _ => Err(err(
-                    Some(hline),
-                    format!(
-                        "{what} column {g} does not exist: expected 1 to {} (columns: {list})",
-                        header.len()
-                    ),
-                )),
-            };
-        }
-        let matches: Vec<usize> = (0..header.len())
-            .filter(|&i| header[i].trim().eq_ignore_ascii_case(unquote(g)))
-            .collect();
-        return match matches.as_slice() {
-            [i] => Ok(*i),
-            [] => Err(err(
-                Some(hline),
-                format!("no {what} column named '{g}': expected one of {list}"),
-            )),
-            _ => Err(err(
-                Some(hline),
-                format!(
-                    "{what} column name '{g}' appears more than once: give its index with {flag}"
-                ),
-            )),
-        };
-    }
-    let matches: Vec<usize> = (0..header.len())
-        .filter(|&i| {
-            // A name with a bracketed unit (`angle (V)`) is of its kind whatever the unit, so
-            // an unknown unit is refused as such, not as a missing column.
-            let lower = header[i].trim().to_lowercase();
-            let bracketed = lower.find(['[', '(']).map(|p| lower[..p].trim().to_string());
-            usual.contains(&split_header(&header[i]).0.as_str())
-                || bracketed.is_some_and(|b| usual.contains(&b.as_str()))
-        })
-        .collect();
-    match matches.as_slice() {
-        [i] => Ok(*i),
-        [] => Err(err(
-            Some(hline),
-            format!(
-                "no {what} column: expected a header such as {} (columns: {list}), or choose one with {flag}",
-                usual.iter().take(4).map(|n| format!("'{n}'")).collect::<Vec<_>>().join(", ")
-            ),
-        )),
-        [a, b, ..] => Err(err(
-            Some(hline),
-            format!(
-                "ambiguous {what} column: '{}' (column {}) and '{}' (column {}) both qualify: choose one with {flag}",
-                header[*a],
-                a + 1,
-                header[*b],
-                b + 1
-            ),
-        )),
-    }
+/// How the time of each sample is found.
+enum Clock {
+    /// From column `i`, in `unit`.
+    Column(usize, TimeUnit),
+    /// Row `k` of the table (bad rows included) is at k / rate.
+    Rate(f64),
 }
 
 /// Read the columns of a log. Does not check ordering or length (the caller validates).
@@ -257,71 +50,174 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     if text.trim().is_empty() {
         return Err(err(Some(1), "empty file: expected a header row and data rows".into()));
     }
-    // (1-based line number, content) of every line that is not blank or a comment.
-    let mut last_line = 0u64;
-    let content: Vec<(u64, &str)> = text
+    // (1-based line number, byte offset, content) of every line; then those that are not blank
+    // or a comment, and not among the first `--skip-lines`.
+    let mut offset = 0usize;
+    let all: Vec<(u64, usize, &str)> = text
         .split('\n')
         .enumerate()
         .map(|(i, l)| {
-            if !l.trim().is_empty() {
-                last_line = i as u64 + 1;
-            }
-            (i as u64 + 1, l.trim_end_matches('\r'))
+            let at = offset;
+            offset += l.len() + 1;
+            (i as u64 + 1, at, l.trim_end_matches('\r'))
         })
-        .filter(|(_, l)| !l.trim().is_empty() && !l.trim_start().starts_with('#'))
         .collect();
-    let Some(&(hline, header_text)) = content.first() else {
-        return Err(err(
-            Some(last_line.max(1)),
-            "only comments: expected a header row and data rows".into(),
-        ));
-    };
-    let rows = &content[1..];
-    let probe: Vec<&str> = rows.iter().take(5).map(|&(_, l)| l).collect();
-    let Some(delim) = sniff(header_text, &probe) else {
-        return Err(err(
-            Some(hline),
+    let is_content = |l: &str| !l.trim().is_empty() && !l.trim_start().starts_with('#');
+    let last_line = all.iter().rev().find(|(_, _, l)| !l.trim().is_empty()).map_or(1, |x| x.0);
+    let skip = opts.skip_lines.unwrap_or(0) as u64;
+    let content: Vec<(u64, &str)> =
+        all.iter().filter(|(n, _, l)| *n > skip && is_content(l)).map(|&(n, _, l)| (n, l)).collect();
+    if content.is_empty() {
+        let kind = if skip > 0 && all.iter().any(|(_, _, l)| is_content(l)) {
             format!(
-                "header \"{}\" is a single column: expected time and angle columns separated by commas, semicolons, tabs or spaces",
-                header_text.trim()
-            ),
-        ));
+                "--skip-lines {skip} skips every row (the file has {last_line} lines): expected a header row and data rows after them"
+            )
+        } else {
+            "only comments: expected a header row and data rows".into()
+        };
+        return Err(err(Some(last_line), kind));
+    }
+    let start = match opts.skip_lines {
+        Some(_) if Delim::Whitespace.split(content[0].1).len() == 1
+            && number(content[0].1, Delim::Whitespace).is_some() =>
+        {
+            Start::Bare(0)
+        }
+        Some(_) => Start::Header(0),
+        None => layout::find_start(&content).unwrap_or(Start::Header(0)),
     };
-    let header: Vec<String> =
-        delim.split(header_text).into_iter().map(|h| unquote(h).to_string()).collect();
-    if header.iter().all(|h| number(h, delim).is_some()) {
+    let first = match start {
+        Start::Header(i) | Start::Bare(i) => i,
+    };
+    let top_line = content.get(first).map_or(1, |c| c.0);
+    // Values stated above the table (skipped lines included), and the sample rate among them.
+    let preamble: Vec<(u64, &str)> = all
+        .iter()
+        .filter(|(n, _, l)| *n < top_line && is_content(l))
+        .map(|&(n, _, l)| (n, l))
+        .collect();
+    let stated = layout::stated(&preamble);
+    let rate = match (opts.rate_hz, stated.iter().find(|s| is_rate_key(&s.key))) {
+        (Some(hz), _) if hz.is_finite() && hz > 0.0 => Some((hz, RateSource::Option)),
+        (Some(hz), _) => {
+            return Err(err(
+                None,
+                format!("--rate {hz} is not a sample rate: expected a positive number of samples per second"),
+            ));
+        }
+        (None, Some(s)) if s.value.is_finite() && s.value > 0.0 => {
+            Some((s.value, RateSource::Stated { line: s.line, key: s.key.clone() }))
+        }
+        (None, Some(s)) => {
+            return Err(err(
+                Some(s.line),
+                format!(
+                    "'{}' states a sample rate of {}: expected a positive number of samples per second (or give --rate HZ)",
+                    s.key, s.value
+                ),
+            ));
+        }
+        (None, None) => None,
+    };
+    let line_start =
+        |line: u64| all.get(line.saturating_sub(1) as usize).map_or(text.len(), |x| x.1.min(text.len()));
+
+    let (header, hline, delim, rows) = match start {
+        Start::Bare(i) => {
+            let bline = content[i].0;
+            let Some((hz, _)) = rate else {
+                return Err(err(
+                    Some(bline),
+                    "rows of one number each with no header above them: expected a sample rate (--rate HZ, or a preamble line naming sample_rate) and the angle unit (--angle-unit)".into(),
+                ));
+            };
+            let _ = hz;
+            let rows: Vec<(u64, Vec<String>)> =
+                content[i..].iter().map(|&(n, l)| (n, Delim::Whitespace.split(l))).collect();
+            (vec![String::new()], bline, Delim::Whitespace, rows)
+        }
+        Start::Header(i) => {
+            let (hline, header_text) = content[i];
+            let probe: Vec<&str> = content[i + 1..].iter().take(5).map(|&(_, l)| l).collect();
+            let delim = match layout::sniff(header_text, &probe) {
+                Some(d) => d,
+                // One named column: an angle at a stated rate.
+                None if rate.is_some() => Delim::Whitespace,
+                None => {
+                    return Err(err(
+                        Some(hline),
+                        format!(
+                            "header \"{}\" is a single column: expected time and angle columns separated by commas, semicolons, tabs or spaces (or one angle column with --rate HZ)",
+                            header_text.trim()
+                        ),
+                    ));
+                }
+            };
+            let header = if layout::sniff(header_text, &probe).is_some() {
+                delim.split(header_text)
+            } else {
+                vec![names::unquote(header_text).to_string()]
+            };
+            let body = &text[line_start(hline + 1)..];
+            let rows = if hline as usize >= all.len() {
+                Vec::new()
+            } else {
+                layout::records(delim, body, hline + 1)
+            };
+            (header, hline, delim, rows)
+        }
+    };
+    let bare = matches!(start, Start::Bare(_));
+    if !bare && header.iter().all(|h| number(h, delim).is_some()) {
         return Err(err(
             Some(hline),
             "expected a header row naming the columns, found only numbers".into(),
         ));
     }
-    let ti =
-        choose(&err, hline, &header, opts.time_col.as_deref(), "time", TIME_NAMES, "--time-col")?;
-    let ai = choose(
-        &err,
-        hline,
-        &header,
-        opts.angle_col.as_deref(),
-        "angle",
-        ANGLE_NAMES,
-        "--angle-col",
-    )?;
-    if ti == ai {
+    let choose_time = || {
+        choose(&err, hline, &header, opts.time_col.as_deref(), "time", TIME_NAMES, "--time-col")
+    };
+    // The time column, unless the times come from a sample rate: `--rate` always; a stated rate
+    // when no time column is named or found.
+    let ti = match rate {
+        Some(_) if opts.rate_hz.is_some() || bare => {
+            if let Some(c) = &opts.time_col {
+                return Err(err(
+                    None,
+                    format!(
+                        "--time-col {c} and {} both give the times: choose one",
+                        if bare { "a log of angles only" } else { "--rate" }
+                    ),
+                ));
+            }
+            None
+        }
+        Some(_) if opts.time_col.is_none() => choose_time().ok(),
+        _ => Some(choose_time()?),
+    };
+    let ai = if bare || header.len() == 1 && ti.is_none() {
+        0
+    } else {
+        choose(&err, hline, &header, opts.angle_col.as_deref(), "angle", ANGLE_NAMES, "--angle-col")?
+    };
+    if ti == Some(ai) {
         return Err(err(
             Some(hline),
-            format!("time and angle are both column {}: expected two different columns", ti + 1),
+            format!("time and angle are both column {}: expected two different columns", ai + 1),
         ));
     }
-    let (tbase, tunit_h) = split_header(&header[ti]);
+    let tname = ti.map_or("", |i| header[i].as_str());
+    let (tbase, tunit_h) = ti.map_or((String::new(), None), |i| split_header(&header[i]));
     let (abase, aunit_h) = split_header(&header[ai]);
     // A units row right under the header (`s,deg`, `[ms];(rad)`) states the units of the
     // columns whose names do not; it is not a data row.
     let mut rows = rows;
     let mut row_units = (None, None);
-    if let Some(&(_, first)) = rows.first() {
-        let f = delim.split(first);
-        let tok = |i: usize| f.get(i).map(|s| bare_unit(unquote(s))).and_then(unit_token);
-        let (tu, au) = (tok(ti), tok(ai));
+    if !bare && let Some((_, f)) = rows.first() {
+        let tok = |i: Option<usize>| {
+            i.and_then(|i| f.get(i)).map(|s| bare_unit(names::unquote(s))).and_then(unit_token)
+        };
+        let (tu, au) = (tok(ti), tok(Some(ai)));
         if matches!(tu, Some(HeaderUnit::Time(_))) || matches!(au, Some(HeaderUnit::Angle(_))) {
             if let Some(HeaderUnit::Time(u)) = tu {
                 row_units.0 = Some(u);
@@ -329,32 +225,46 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             if let Some(HeaderUnit::Angle(u)) = au {
                 row_units.1 = Some(u);
             }
-            rows = &rows[1..];
+            rows.remove(0);
         }
     }
 
-    let time_unit = match opts.time_unit.as_deref() {
-        Some(u) => TimeUnit::parse(u)
-            .ok_or_else(|| err(None, format!("unknown time unit '{u}': expected s, ms or us")))?,
-        None => match (tunit_h, row_units.0) {
-            (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
-            _ if let Some(u) = TimeUnit::parse(&tbase) => u,
-            _ => {
-                let (stem, why) = unitless(&header[ti]);
-                return Err(err(
-                    Some(hline),
-                    format!(
-                        "time column '{}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us",
-                        header[ti]
-                    ),
-                ));
-            }
-        },
+    let clock = match (ti, &rate) {
+        (None, Some((hz, _))) => Clock::Rate(*hz),
+        (None, None) => Clock::Rate(f64::NAN),
+        (Some(ti), _) => Clock::Column(ti, match opts.time_unit.as_deref() {
+            Some(u) => TimeUnit::parse(u).ok_or_else(|| {
+                err(None, format!("unknown time unit '{u}': expected s, ms or us"))
+            })?,
+            None => match (tunit_h, row_units.0) {
+                (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
+                _ if let Some(u) = TimeUnit::parse(&tbase) => u,
+                _ => {
+                    let (stem, why) = unitless(tname);
+                    return Err(err(
+                        Some(hline),
+                        format!(
+                            "time column '{tname}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us"
+                        ),
+                    ));
+                }
+            },
+        }),
+    };
+    let time_unit = match clock {
+        Clock::Column(_, u) => u,
+        Clock::Rate(_) => TimeUnit::Seconds,
     };
     let angle_unit = match opts.angle_unit.as_deref() {
         Some(u) => AngleUnit::parse(u).ok_or_else(|| {
             err(None, format!("unknown angle unit '{u}': expected rad, mrad, deg, grad or counts"))
         })?,
+        None if bare => {
+            return Err(err(
+                Some(hline),
+                "one column of angles with no header: expected its unit, --angle-unit rad|mrad|deg|grad|counts".into(),
+            ));
+        }
         None => match (aunit_h, row_units.1) {
             (Some(HeaderUnit::Angle(u)), _) | (_, Some(u)) => u,
             _ if let Some(u) = AngleUnit::parse(&abase) => u,
@@ -394,7 +304,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         }
     };
     if let Some(b) = opts.counts_wrap {
-        if ![8, 16, 24, 32].contains(&b) {
+        if !WRAP_BITS.contains(&b) {
             return Err(err(
                 None,
                 format!("--counts-wrap {b} is not a counter width: expected 8, 16, 24 or 32 bits"),
@@ -410,8 +320,18 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             ));
         }
     }
-    let to_s = time_unit.to_seconds();
     let angle_step = (angle_unit == AngleUnit::Counts).then_some(to_rad);
+    let time = match (&clock, &rate) {
+        (Clock::Column(i, u), _) => TimeBase::Column { name: header[*i].clone(), unit: *u },
+        (Clock::Rate(hz), Some((_, source))) => TimeBase::Rate { hz: *hz, source: source.clone() },
+        (Clock::Rate(hz), None) => TimeBase::Rate { hz: *hz, source: RateSource::Option },
+    };
+    let layout = Layout {
+        header_line: (!bare).then_some(hline),
+        preamble_lines: preamble.len(),
+        time,
+        angle_column: if bare { None } else { Some(header[ai].clone()) },
+    };
 
     let mut table = Table {
         times: Vec::new(),
@@ -421,25 +341,21 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         dropped_lines: Vec::new(),
         time_unit,
         angle_unit,
+        layout,
     };
-    let need = ti.max(ai) + 1;
-    for &(line, row) in rows {
-        let fields = delim.split(row);
+    let need = ti.unwrap_or(0).max(ai) + 1;
+    for (k, (line, fields)) in rows.iter().enumerate() {
         let value = |i: usize, what: &str, unit: String| -> Result<f64, String> {
-            let raw = fields.get(i).copied().unwrap_or("");
+            let raw = fields.get(i).map_or("", String::as_str);
             match number(raw, delim) {
                 Some(v) if v.is_finite() => Ok(v),
                 Some(_) => Err(format!(
-                    "expected a finite {what} in {unit} (column {} '{}'), found \"{}\"",
-                    i + 1,
-                    header[i],
-                    unquote(raw)
+                    "expected a finite {what} in {unit} (column {}), found \"{raw}\"",
+                    column_name(&header, i)
                 )),
                 None => Err(format!(
-                    "expected {what} in {unit} as a number (column {} '{}'), found \"{}\"",
-                    i + 1,
-                    header[i],
-                    unquote(raw)
+                    "expected {what} in {unit} as a number (column {}), found \"{raw}\"",
+                    column_name(&header, i)
                 )),
             }
         };
@@ -451,17 +367,20 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 fields.len()
             ))
         } else {
-            value(ti, "time", time_unit.to_string())
-                .and_then(|t| value(ai, "angle", angle_unit.to_string()).map(|a| (t, a)))
+            let t = match clock {
+                Clock::Column(i, u) => value(i, "time", u.to_string()).map(|t| t * u.to_seconds()),
+                Clock::Rate(hz) => Ok(k as f64 / hz),
+            };
+            t.and_then(|t| value(ai, "angle", angle_unit.to_string()).map(|a| (t, a)))
         };
         match parsed {
             Ok((t, a)) => {
-                table.times.push(t * to_s);
+                table.times.push(t);
                 table.angles.push(a);
-                table.lines.push(line);
+                table.lines.push(*line);
             }
-            Err(_) if opts.drop_bad_rows => table.dropped_lines.push(line),
-            Err(kind) => return Err(err(Some(line), kind)),
+            Err(_) if opts.drop_bad_rows => table.dropped_lines.push(*line),
+            Err(kind) => return Err(err(Some(*line), kind)),
         }
     }
     if angle_unit == AngleUnit::Counts {
@@ -483,6 +402,14 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         return Err(err(Some(last_line.max(hline)), kind));
     }
     Ok(table)
+}
+
+/// Column `i` for messages: `2 'theta_rad'`, or `1` when the table has no header.
+fn column_name(header: &[String], i: usize) -> String {
+    match header.get(i).map(|h| h.trim()) {
+        Some(h) if !h.is_empty() => format!("{} '{h}'", i + 1),
+        _ => format!("{}", i + 1),
+    }
 }
 
 /// Counter widths `--counts-wrap` takes.
@@ -543,6 +470,7 @@ fn unwrap_counts(
 
 #[cfg(test)]
 mod tests {
+    use super::layout::sniff;
     use super::*;
 
     #[test]

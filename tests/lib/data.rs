@@ -591,3 +591,99 @@ fn a_wrapped_16_bit_counter_is_unwrapped_to_the_same_log_and_coefficients() {
         "--counts-wrap is for encoder counts",
     );
 }
+
+#[test]
+fn a_quoted_header_may_hold_the_separator() {
+    // `"time, s"` holds the comma that separates the fields: read by the csv crate.
+    let text = good_text(300).replace("time_s,theta_rad", "\"time, s\",\"theta, rad\"");
+    let log = load(&text, &opts());
+    assert_eq!(log.len(), 300);
+    assert!((log.times()[2] - 0.04).abs() < 1e-12);
+    // Quoted values too, and a quoted field with the delimiter inside a row of another file.
+    let text = good_text(300)
+        .lines()
+        .enumerate()
+        .map(|(i, l)| if i == 0 { l.to_string() } else { l.replace(',', "\",\"") })
+        .map(|l| if l.contains('"') { format!("\"{l}\"") } else { l })
+        .collect::<Vec<_>>()
+        .join("\n");
+    assert_eq!(load(&text, &opts()).len(), 300);
+    // A bad row still names its line after a quoted header.
+    let mut lines: Vec<String> =
+        good_text(300).lines().map(str::to_string).collect::<Vec<_>>();
+    lines[0] = "\"time, s\",theta_rad".into();
+    lines[7] = "\"0.14, 2\",0.1".into();
+    refused(&lines.join("\n"), &opts(), Some(8), "found \"0.14, 2\"");
+}
+
+#[test]
+fn preamble_lines_above_the_header_are_skipped() {
+    let body = good_text(300);
+    let text = format!("Run 6, rig B\nlogged by bench unit 2\n\n{body}");
+    let log = load(&text, &opts());
+    assert_eq!(log.len(), 300);
+    assert_eq!(log.layout().header_line, Some(4));
+    assert_eq!(log.layout().preamble_lines, 2);
+    // A title that looks like a header (two names) but has no rows under it.
+    let text = format!("title,run\n{body}");
+    assert_eq!(load(&text, &opts()).layout().header_line, Some(2));
+    // --skip-lines forces the header line; beyond the file it is refused.
+    let text = format!("time_s,theta_rad\n0,1\n{body}");
+    let log = load(&text, &LoadOptions { skip_lines: Some(2), ..opts() });
+    assert_eq!((log.layout().header_line, log.len()), (Some(3), 300));
+    refused(
+        &body,
+        &LoadOptions { skip_lines: Some(400), ..opts() },
+        Some(301),
+        "--skip-lines 400 skips every row",
+    );
+}
+
+#[test]
+fn angles_at_a_stated_or_given_rate() {
+    // One angle a row, the rate stated in a names/values block above (as the rotary logs).
+    let mut rows = String::new();
+    for i in 0..300 {
+        rows.push_str(&format!("{:.6}\n", damped(0.02 * i as f64, 0.1, 0.3).to_degrees()));
+    }
+    let text = format!("start_deg, sample_rate, secs\n20, 50, 6\n{rows}");
+    let deg = LoadOptions { angle_unit: Some("deg".into()), ..opts() };
+    let log = load(&text, &deg);
+    assert_eq!(log.len(), 300);
+    assert!((log.times()[150] - 3.0).abs() < 1e-12);
+    assert!((log.angles()[7] - damped(0.14, 0.1, 0.3)).abs() < 1e-7);
+    let l = log.layout();
+    assert_eq!(l.header_line, None);
+    assert!(l.time_words().contains("50 Hz stated in the file at line 2 ('sample_rate')"));
+    // `name = value` lines state it too; --rate overrides it.
+    let text = format!("# bench log\nSampling rate = 25 Hz\n{rows}");
+    assert!((load(&text, &deg).times()[1] - 0.04).abs() < 1e-12);
+    let log = load(&text, &LoadOptions { rate_hz: Some(50.0), ..deg.clone() });
+    assert!((log.times()[1] - 0.02).abs() < 1e-12);
+    // One named column with --rate.
+    let text = format!("theta_deg\n{rows}");
+    let log = load(&text, &LoadOptions { rate_hz: Some(50.0), ..opts() });
+    assert!((log.angles()[7] - damped(0.14, 0.1, 0.3)).abs() < 1e-7);
+    // No rate, no unit: refused with what is missing.
+    refused(&rows, &deg, Some(1), "expected a sample rate (--rate HZ");
+    refused(
+        &format!("sample_rate = 50\n{rows}"),
+        &opts(),
+        Some(2),
+        "one column of angles with no header: expected its unit",
+    );
+    refused(
+        &rows,
+        &LoadOptions { rate_hz: Some(-3.0), ..deg.clone() },
+        None,
+        "--rate -3 is not a sample rate",
+    );
+    // A bad row among the angles names its line; dropped, its slot in time stays.
+    let mut lines: Vec<String> = rows.lines().map(str::to_string).collect();
+    lines[10] = "x".into();
+    let text = format!("rate_hz: 50\n{}", lines.join("\n"));
+    refused(&text, &deg, Some(12), "expected angle in deg as a number (column 1), found \"x\"");
+    let log = load(&text, &LoadOptions { drop_bad_rows: true, ..deg });
+    assert_eq!(log.dropped_lines(), &[12]);
+    assert!((log.times()[10] - 0.22).abs() < 1e-12);
+}
