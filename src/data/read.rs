@@ -13,8 +13,8 @@ pub use layout::{MAX_PREAMBLE, Stated, is_rate_key};
 
 use layout::{Delim, Start, number};
 use names::{
-    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, TIME_NAMES, bare_unit, choose, split_header,
-    unit_token, unitless,
+    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, TIME_NAMES, bare_unit, choose, split_header, unit_token,
+    unitless,
 };
 
 use super::{Layout, LoadError, LoadOptions, RateSource, TimeBase};
@@ -65,8 +65,11 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let is_content = |l: &str| !l.trim().is_empty() && !l.trim_start().starts_with('#');
     let last_line = all.iter().rev().find(|(_, _, l)| !l.trim().is_empty()).map_or(1, |x| x.0);
     let skip = opts.skip_lines.unwrap_or(0) as u64;
-    let content: Vec<(u64, &str)> =
-        all.iter().filter(|(n, _, l)| *n > skip && is_content(l)).map(|&(n, _, l)| (n, l)).collect();
+    let content: Vec<(u64, &str)> = all
+        .iter()
+        .filter(|(n, _, l)| *n > skip && is_content(l))
+        .map(|&(n, _, l)| (n, l))
+        .collect();
     if content.is_empty() {
         let kind = if skip > 0 && all.iter().any(|(_, _, l)| is_content(l)) {
             format!(
@@ -78,8 +81,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         return Err(err(Some(last_line), kind));
     }
     let start = match opts.skip_lines {
-        Some(_) if Delim::Whitespace.split(content[0].1).len() == 1
-            && number(content[0].1, Delim::Whitespace).is_some() =>
+        Some(_)
+            if Delim::Whitespace.split(content[0].1).len() == 1
+                && number(content[0].1, Delim::Whitespace).is_some() =>
         {
             Start::Bare(0)
         }
@@ -102,7 +106,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         (Some(hz), _) => {
             return Err(err(
                 None,
-                format!("--rate {hz} is not a sample rate: expected a positive number of samples per second"),
+                format!(
+                    "--rate {hz} is not a sample rate: expected a positive number of samples per second"
+                ),
             ));
         }
         (None, Some(s)) if s.value.is_finite() && s.value > 0.0 => {
@@ -119,8 +125,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         }
         (None, None) => None,
     };
-    let line_start =
-        |line: u64| all.get(line.saturating_sub(1) as usize).map_or(text.len(), |x| x.1.min(text.len()));
+    let line_start = |line: u64| {
+        all.get(line.saturating_sub(1) as usize).map_or(text.len(), |x| x.1.min(text.len()))
+    };
 
     let (header, hline, delim, rows) = match start {
         Start::Bare(i) => {
@@ -174,9 +181,8 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             "expected a header row naming the columns, found only numbers".into(),
         ));
     }
-    let choose_time = || {
-        choose(&err, hline, &header, opts.time_col.as_deref(), "time", TIME_NAMES, "--time-col")
-    };
+    let choose_time =
+        || choose(&err, hline, &header, opts.time_col.as_deref(), "time", TIME_NAMES, "--time-col");
     // The time column, unless the times come from a sample rate: `--rate` always; a stated rate
     // when no time column is named or found.
     let ti = match rate {
@@ -198,7 +204,15 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let ai = if bare || header.len() == 1 && ti.is_none() {
         0
     } else {
-        choose(&err, hline, &header, opts.angle_col.as_deref(), "angle", ANGLE_NAMES, "--angle-col")?
+        choose(
+            &err,
+            hline,
+            &header,
+            opts.angle_col.as_deref(),
+            "angle",
+            ANGLE_NAMES,
+            "--angle-col",
+        )?
     };
     if ti == Some(ai) {
         return Err(err(
@@ -232,24 +246,27 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let clock = match (ti, &rate) {
         (None, Some((hz, _))) => Clock::Rate(*hz),
         (None, None) => Clock::Rate(f64::NAN),
-        (Some(ti), _) => Clock::Column(ti, match opts.time_unit.as_deref() {
-            Some(u) => TimeUnit::parse(u).ok_or_else(|| {
-                err(None, format!("unknown time unit '{u}': expected s, ms or us"))
-            })?,
-            None => match (tunit_h, row_units.0) {
-                (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
-                _ if let Some(u) = TimeUnit::parse(&tbase) => u,
-                _ => {
-                    let (stem, why) = unitless(tname);
-                    return Err(err(
-                        Some(hline),
-                        format!(
-                            "time column '{tname}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us"
-                        ),
-                    ));
-                }
+        (Some(ti), _) => Clock::Column(
+            ti,
+            match opts.time_unit.as_deref() {
+                Some(u) => TimeUnit::parse(u).ok_or_else(|| {
+                    err(None, format!("unknown time unit '{u}': expected s, ms or us"))
+                })?,
+                None => match (tunit_h, row_units.0) {
+                    (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
+                    _ if let Some(u) = TimeUnit::parse(&tbase) => u,
+                    _ => {
+                        let (stem, why) = unitless(tname);
+                        return Err(err(
+                            Some(hline),
+                            format!(
+                                "time column '{tname}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us"
+                            ),
+                        ));
+                    }
+                },
             },
-        }),
+        ),
     };
     let time_unit = match clock {
         Clock::Column(_, u) => u,

@@ -609,8 +609,7 @@ fn a_quoted_header_may_hold_the_separator() {
         .join("\n");
     assert_eq!(load(&text, &opts()).len(), 300);
     // A bad row still names its line after a quoted header.
-    let mut lines: Vec<String> =
-        good_text(300).lines().map(str::to_string).collect::<Vec<_>>();
+    let mut lines: Vec<String> = good_text(300).lines().map(str::to_string).collect::<Vec<_>>();
     lines[0] = "\"time, s\",theta_rad".into();
     lines[7] = "\"0.14, 2\",0.1".into();
     refused(&lines.join("\n"), &opts(), Some(8), "found \"0.14, 2\"");

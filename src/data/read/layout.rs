@@ -135,7 +135,9 @@ pub(super) fn records(delim: Delim, text: &str, first_line: u64) -> Vec<(u64, Ve
         Delim::Whitespace => text
             .split('\n')
             .enumerate()
-            .map(|(i, l)| (first_line + i as u64, split_whitespace_quoted(l.trim_end_matches('\r'))))
+            .map(|(i, l)| {
+                (first_line + i as u64, split_whitespace_quoted(l.trim_end_matches('\r')))
+            })
             .filter(|(_, f)| !f.is_empty() && keep(f))
             .collect(),
     }

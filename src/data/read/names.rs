@@ -190,4 +190,3 @@ pub(super) fn choose(
         )),
     }
 }
-
