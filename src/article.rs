@@ -146,6 +146,12 @@ struct RawRun {
     #[serde(default)]
     rate: Option<Spanned<f64>>,
     #[serde(default)]
+    duplicate_times: Option<Spanned<String>>,
+    #[serde(default)]
+    signal_scale: Option<Spanned<String>>,
+    #[serde(default)]
+    signal_zero: Option<Spanned<f64>>,
+    #[serde(default)]
     drop_bad_rows: bool,
     #[serde(default)]
     from: Option<Spanned<f64>>,
@@ -369,6 +375,34 @@ fn check_run(cx: &Ctx<'_>, r: RawRun, prefix: &str, base: &Path) -> Result<RunSp
         None => None,
         Some(hz) => Some(cx.positive(hz, &key("rate"), "sample rate in samples per second")?),
     };
+    let duplicate_times = match &r.duplicate_times {
+        None => crate::data::DuplicateTimes::default(),
+        Some(m) => crate::data::DuplicateTimes::parse(m.get_ref()).ok_or_else(|| {
+            cx.at(
+                m.span(),
+                &key("duplicate_times"),
+                format!("expected keep-first or mean (or refuse), found \"{}\"", m.get_ref()),
+            )
+        })?,
+    };
+    let signal_scale = match &r.signal_scale {
+        None => None,
+        Some(s) => Some(
+            crate::units::SignalScale::parse(s.get_ref())
+                .map_err(|e| cx.at(s.span(), &key("signal_scale"), e))?,
+        ),
+    };
+    let signal_zero = match &r.signal_zero {
+        None => None,
+        Some(z) if z.get_ref().is_finite() => Some(*z.get_ref()),
+        Some(z) => {
+            return Err(cx.at(
+                z.span(),
+                &key("signal_zero"),
+                format!("expected a finite reading, found {}", z.get_ref()),
+            ));
+        }
+    };
     Ok(RunSpec {
         label: r.label,
         log: base.join(&log_as_written),
@@ -382,6 +416,9 @@ fn check_run(cx: &Ctx<'_>, r: RawRun, prefix: &str, base: &Path) -> Result<RunSp
             counts_wrap,
             skip_lines,
             rate_hz,
+            duplicate_times,
+            signal_scale,
+            signal_zero,
             drop_bad_rows: r.drop_bad_rows,
             from_s: time_key(&r.from, "from")?,
             to_s: time_key(&r.to, "to")?,

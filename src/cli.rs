@@ -105,6 +105,16 @@ pub struct LoaderArgs {
     /// time column and a rate stated in the file.
     #[arg(long, value_name = "HZ")]
     pub rate: Option<f64>,
+    /// Rows that repeat the time before: keep-first or mean (default: refuse, naming the line).
+    #[arg(long, value_name = "keep-first|mean")]
+    pub duplicate_times: Option<crate::data::DuplicateTimes>,
+    /// Calibration of an angle column that logs a signal (a voltage): signal units per angle
+    /// unit, e.g. 0.05V/deg; the angle is (signal - zero) / scale.
+    #[arg(long, value_name = "VALUE[UNIT]/deg")]
+    pub signal_scale: Option<crate::units::SignalScale>,
+    /// Signal reading at zero angle, in the signal's unit (with --signal-scale; default 0).
+    #[arg(long, value_name = "VALUE", allow_hyphen_values = true)]
+    pub signal_zero: Option<f64>,
     /// Drop rows with unparseable or non-finite values (reported) instead of refusing the file.
     #[arg(long)]
     pub drop_bad_rows: bool,
@@ -131,6 +141,9 @@ impl LoaderArgs {
             counts_wrap: self.counts_wrap,
             skip_lines: self.skip_lines,
             rate_hz: self.rate,
+            duplicate_times: self.duplicate_times.unwrap_or_default(),
+            signal_scale: self.signal_scale.clone(),
+            signal_zero: self.signal_zero,
             drop_bad_rows: self.drop_bad_rows,
             from_s: self.from,
             to_s: self.to,

@@ -41,6 +41,10 @@ pub struct Layout {
     pub time: TimeBase,
     /// The angle column's header name (`None` without a header).
     pub angle_column: Option<String>,
+    /// The signal calibration the angle was read through (`0.05V/deg`, zero 0.12), if any.
+    pub signal: Option<String>,
+    /// Rows merged or dropped because they repeated the time before (`--duplicate-times`).
+    pub repeated_times: usize,
 }
 
 /// Where the sample times of a log come from.
@@ -52,6 +56,13 @@ pub enum TimeBase {
         name: String,
         /// Unit the column was read in.
         unit: units::TimeUnit,
+    },
+    /// Calendar timestamps (ISO 8601 / RFC 3339), as seconds from the first one.
+    Stamps {
+        /// Header name.
+        name: String,
+        /// The first stamp as written.
+        first: String,
     },
     /// A steady sample rate: row k of the table is at k / hz seconds.
     Rate {
@@ -84,6 +95,8 @@ impl Layout {
             preamble_lines: 0,
             time: TimeBase::Column { name: "t".into(), unit: units::TimeUnit::Seconds },
             angle_column: None,
+            signal: None,
+            repeated_times: 0,
         }
     }
 
@@ -92,6 +105,9 @@ impl Layout {
     pub fn time_words(&self) -> String {
         match &self.time {
             TimeBase::Column { name, unit } => format!("column '{name}' in {unit}"),
+            TimeBase::Stamps { name, first } => {
+                format!("timestamps in column '{name}', as seconds from the first ({first})")
+            }
             TimeBase::Rate { hz, source: RateSource::Option } => {
                 format!("steady rate {hz} Hz given as an option (--rate or the run's rate key)")
             }
@@ -200,6 +216,13 @@ pub struct LoadOptions {
     pub rate_hz: Option<f64>,
     /// Drop unparseable or non-finite rows instead of refusing the file.
     pub drop_bad_rows: bool,
+    /// What to do with rows that repeat the time of the row before.
+    pub duplicate_times: DuplicateTimes,
+    /// Calibration of an angle column that logs a signal proportional to the angle (a
+    /// voltage): the angle is (signal − `signal_zero`) / scale. Replaces the angle unit.
+    pub signal_scale: Option<units::SignalScale>,
+    /// Signal reading at zero angle, in the signal's unit (default 0).
+    pub signal_zero: Option<f64>,
     /// Fit from this time on the log's axis [s] instead of the detected release
     /// (see [`segment`]).
     pub from_s: Option<f64>,
@@ -207,6 +230,38 @@ pub struct LoadOptions {
     pub to_s: Option<f64>,
     /// Fit time-base slips as logged instead of re-timing them (see [`slips`]).
     pub keep_slips: bool,
+}
+
+/// What the loader does with a row whose time equals the row before.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum DuplicateTimes {
+    /// Refuse the file at the repeated row, saying whether the times look rounded.
+    #[default]
+    Refuse,
+    /// Keep the first row of each run of equal times, drop the others.
+    KeepFirst,
+    /// Replace each run of equal times by one sample with the mean angle.
+    Mean,
+}
+
+impl DuplicateTimes {
+    /// Parse `keep-first` or `mean` (also `keep_first`, `refuse`).
+    pub fn parse(s: &str) -> Option<DuplicateTimes> {
+        match s.trim().to_ascii_lowercase().replace('_', "-").as_str() {
+            "refuse" => Some(DuplicateTimes::Refuse),
+            "keep-first" => Some(DuplicateTimes::KeepFirst),
+            "mean" => Some(DuplicateTimes::Mean),
+            _ => None,
+        }
+    }
+}
+
+impl std::str::FromStr for DuplicateTimes {
+    type Err = String;
+    fn from_str(s: &str) -> Result<DuplicateTimes, String> {
+        DuplicateTimes::parse(s)
+            .ok_or_else(|| format!("{s:?}: expected keep-first or mean (or refuse, the default)"))
+    }
 }
 
 /// A load failure: the file, the 1-based line when one is at fault, and what was expected.

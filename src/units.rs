@@ -3,6 +3,7 @@
 //! A log may record time in seconds, milliseconds or microseconds and angle in radians,
 //! milliradians, degrees, gradians (gon) or encoder counts. The loader learns the unit from a header suffix (`t_ms`, `angle_deg`,
 //! `time [s]`) or from an option, and converts every value to seconds and radians once, here.
+//! A sensor that logs a signal proportional to the angle is read through its [`SignalScale`].
 
 use std::f64::consts::PI;
 use std::fmt;
@@ -105,6 +106,77 @@ impl fmt::Display for AngleUnit {
     }
 }
 
+/// The calibration of a sensor that logs a signal proportional to the angle (a voltage, a
+/// reading): so many signal units per angle unit, written `0.05V/deg`, `2.5 mV/mrad`,
+/// `1.0101/deg`. The angle is (signal − zero) / `per` in `angle_unit`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SignalScale {
+    /// Signal units per one `angle_unit` (non-zero, finite; negative when the signal falls as
+    /// the angle grows).
+    pub per: f64,
+    /// The signal's unit as written (`V`, `mV`), if any.
+    pub signal_unit: Option<String>,
+    /// The angle unit the scale is given per (not counts).
+    pub angle_unit: AngleUnit,
+}
+
+impl SignalScale {
+    /// Parse `VALUE[UNIT]/ANGLE_UNIT`; `Err` says what was expected.
+    pub fn parse(text: &str) -> Result<SignalScale, String> {
+        let expected = "expected VALUE[UNIT]/ANGLE_UNIT such as 0.05V/deg or 1.0101/deg";
+        let Some((left, right)) = text.rsplit_once('/') else {
+            return Err(format!("{text:?}: {expected}"));
+        };
+        let angle_unit = match AngleUnit::parse(right) {
+            Some(AngleUnit::Counts) | None => {
+                return Err(format!(
+                    "{text:?}: '{}' is not an angle unit: {expected} (rad, mrad, deg or grad)",
+                    right.trim()
+                ));
+            }
+            Some(u) => u,
+        };
+        let left = left.trim();
+        // The number is the longest start of the text that reads as one; the unit follows.
+        let split = (1..=left.len())
+            .rev()
+            .find(|&i| left.is_char_boundary(i) && left[..i].trim().parse::<f64>().is_ok())
+            .unwrap_or(0);
+        let (num, unit) = left.split_at(split);
+        let per: f64 = num
+            .trim()
+            .parse()
+            .map_err(|_| format!("{text:?}: '{}' is not a number: {expected}", num.trim()))?;
+        if !per.is_finite() || per == 0.0 {
+            return Err(format!("{text:?}: the scale must be a finite, non-zero number"));
+        }
+        let unit = unit.trim();
+        Ok(SignalScale {
+            per,
+            signal_unit: (!unit.is_empty()).then(|| unit.to_string()),
+            angle_unit,
+        })
+    }
+
+    /// Radians per one signal unit.
+    pub fn radians_per_signal(&self) -> f64 {
+        self.angle_unit.to_radians(None).unwrap_or(1.0) / self.per
+    }
+}
+
+impl fmt::Display for SignalScale {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}{}/{}", self.per, self.signal_unit.as_deref().unwrap_or(""), self.angle_unit)
+    }
+}
+
+impl std::str::FromStr for SignalScale {
+    type Err = String;
+    fn from_str(s: &str) -> Result<SignalScale, String> {
+        SignalScale::parse(s)
+    }
+}
+
 /// Radians to degrees.
 pub fn to_degrees(rad: f64) -> f64 {
     rad * 180.0 / PI
@@ -124,5 +196,19 @@ mod tests {
         assert_eq!(AngleUnit::Counts.to_radians(Some(0.0)), None);
         assert_eq!(TimeUnit::parse("MS"), Some(TimeUnit::Millis));
         assert!((TimeUnit::Micros.to_seconds() - 1e-6).abs() < 1e-21);
+    }
+
+    #[test]
+    fn signal_scales() {
+        let s = SignalScale::parse("0.05V/deg").unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((s.per, s.signal_unit.as_deref(), s.angle_unit), (0.05, Some("V"), AngleUnit::Degrees));
+        // 0.05 V per degree: 1 V is 20 degrees.
+        assert!((s.radians_per_signal() - 20f64.to_radians()).abs() < 1e-15);
+        let s = SignalScale::parse("2.5e-3 mV / rad").unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((s.per, s.signal_unit.as_deref()), (2.5e-3, Some("mV")));
+        assert_eq!(SignalScale::parse("1.0101/deg").map(|s| s.signal_unit), Ok(None));
+        for bad in ["0.05V", "0/deg", "x/deg", "1/counts", "1V/V"] {
+            assert!(SignalScale::parse(bad).is_err(), "{bad}");
+        }
     }
 }

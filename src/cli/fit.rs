@@ -126,7 +126,7 @@ pub struct FitArgs {
 }
 
 /// What `--run` cannot be combined with: logs given otherwise, or loader options for all logs.
-pub const RUN_CONFLICTS: [&str; 13] = [
+pub const RUN_CONFLICTS: [&str; 16] = [
     "logs",
     "time_col",
     "angle_col",
@@ -136,6 +136,9 @@ pub const RUN_CONFLICTS: [&str; 13] = [
     "counts_wrap",
     "skip_lines",
     "rate",
+    "duplicate_times",
+    "signal_scale",
+    "signal_zero",
     "drop_bad_rows",
     "from",
     "to",

@@ -35,7 +35,7 @@ pub fn parse(arg: &str) -> Result<RunSpec, Failure> {
             && key.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
         if !bare || key == "log" {
             return Err(refuse(format!(
-                "{item:?}: expected KEY=VALUE with a run key of the article file (time_col, angle_col, time_unit, angle_unit, counts_per_rev, counts_wrap, skip_lines, rate, drop_bad_rows, from, to, keep_slips, label); the log goes before the ':'"
+                "{item:?}: expected KEY=VALUE with a run key of the article file (time_col, angle_col, time_unit, angle_unit, counts_per_rev, counts_wrap, skip_lines, rate, duplicate_times, signal_scale, signal_zero, drop_bad_rows, from, to, keep_slips, label); the log goes before the ':'"
             )));
         }
         table.push_str(&format!("{key} = {value}\n"));

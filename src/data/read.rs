@@ -6,14 +6,16 @@
 //! nothing it has not checked, so it cannot panic on any input. Where the table starts is
 //! found in [`layout`]; what the header names mean, in [`names`].
 
+mod duplicates;
 mod layout;
 mod names;
+mod stamps;
 
 pub use layout::{MAX_PREAMBLE, Stated, is_rate_key};
 
 use layout::{Delim, Start, number};
 use names::{
-    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, TIME_NAMES, bare_unit, choose, split_header, unit_token,
+    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, SIGNAL_NAMES, TIME_NAMES, bare_unit, choose, split_header, unit_token,
     unitless,
 };
 
@@ -38,6 +40,8 @@ pub(super) struct Table {
 enum Clock {
     /// From column `i`, in `unit`.
     Column(usize, TimeUnit),
+    /// Calendar timestamps in column `i`, from the first one.
+    Stamps(usize, stamps::Stamp),
     /// Row `k` of the table (bad rows included) is at k / rate.
     Rate(f64),
 }
@@ -45,6 +49,12 @@ enum Clock {
 /// Read the columns of a log. Does not check ordering or length (the caller validates).
 pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table, LoadError> {
     let err = |line: Option<u64>, kind: String| LoadError { path: name.to_string(), line, kind };
+    if opts.signal_zero.is_some() && opts.signal_scale.is_none() {
+        return Err(err(
+            None,
+            "--signal-zero is the reading at zero angle of a calibrated signal: expected --signal-scale with it".into(),
+        ));
+    }
     let text = String::from_utf8_lossy(bytes);
     let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
     if text.trim().is_empty() {
@@ -201,6 +211,11 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         Some(_) if opts.time_col.is_none() => choose_time().ok(),
         _ => Some(choose_time()?),
     };
+    let signal = opts.signal_scale.as_ref();
+    let mut angle_names = ANGLE_NAMES.to_vec();
+    if signal.is_some() {
+        angle_names.extend_from_slice(SIGNAL_NAMES);
+    }
     let ai = if bare || header.len() == 1 && ti.is_none() {
         0
     } else {
@@ -210,9 +225,27 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             &header,
             opts.angle_col.as_deref(),
             "angle",
-            ANGLE_NAMES,
+            &angle_names,
             "--angle-col",
-        )?
+        )
+        .map_err(|mut e| {
+            // A voltage column and no calibration: say how to give one.
+            if signal.is_none()
+                && opts.angle_col.is_none()
+                && header.iter().any(|h| {
+                    let lower = h.trim().to_lowercase();
+                    let name = lower.find(['[', '(']).map_or(split_header(h).0, |p| {
+                        lower[..p].trim().to_string()
+                    });
+                    SIGNAL_NAMES.contains(&name.as_str())
+                })
+            {
+                e.kind.push_str(
+                    "; a signal proportional to the angle (a voltage) is read with --signal-scale VALUE[UNIT]/deg (e.g. 0.05V/deg) and --signal-zero",
+                );
+            }
+            e
+        })?
     };
     if ti == Some(ai) {
         return Err(err(
@@ -243,9 +276,23 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         }
     }
 
+    // Calendar timestamps: the first row's time is one and is not a number.
+    let first_stamp = ti
+        .and_then(|i| rows.first().and_then(|(_, f)| f.get(i)))
+        .filter(|f| number(f, delim).is_none())
+        .and_then(|f| stamps::parse(f).map(|s| (s, f.clone())));
     let clock = match (ti, &rate) {
         (None, Some((hz, _))) => Clock::Rate(*hz),
         (None, None) => Clock::Rate(f64::NAN),
+        (Some(ti), _) if let Some((first, _)) = first_stamp => {
+            if let Some(u) = &opts.time_unit {
+                return Err(err(
+                    None,
+                    format!("--time-unit {u} is for times in numbers, but column '{tname}' holds timestamps: drop the option"),
+                ));
+            }
+            Clock::Stamps(ti, first)
+        }
         (Some(ti), _) => Clock::Column(
             ti,
             match opts.time_unit.as_deref() {
@@ -270,9 +317,39 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     };
     let time_unit = match clock {
         Clock::Column(_, u) => u,
-        Clock::Rate(_) => TimeUnit::Seconds,
+        Clock::Stamps(..) | Clock::Rate(_) => TimeUnit::Seconds,
     };
+    if let Some(sc) = signal {
+        let clash = match (&opts.angle_unit, opts.counts_per_rev) {
+            (Some(u), _) => Some(format!("--angle-unit {u}")),
+            (None, Some(n)) => Some(format!("--counts-per-rev {n}")),
+            (None, None) => None,
+        };
+        if let Some(c) = clash {
+            return Err(err(
+                None,
+                format!("--signal-scale {sc} and {c} both say how to read the angle: choose one"),
+            ));
+        }
+        // The column's unit, written in brackets, must be the scale's signal unit.
+        let written = header[ai]
+            .find(['[', '('])
+            .map(|p| header[ai][p + 1..].trim_end_matches([']', ')']).trim().to_string());
+        if let (Some(w), Some(u)) = (&written, &sc.signal_unit)
+            && !w.is_empty()
+            && w != u
+        {
+            return Err(err(
+                Some(hline),
+                format!(
+                    "angle column '{}' is in {w}, but --signal-scale {sc} is per {u}: give the scale in {w} per angle unit",
+                    header[ai]
+                ),
+            ));
+        }
+    }
     let angle_unit = match opts.angle_unit.as_deref() {
+        _ if let Some(sc) = signal => sc.angle_unit,
         Some(u) => AngleUnit::parse(u).ok_or_else(|| {
             err(None, format!("unknown angle unit '{u}': expected rad, mrad, deg, grad or counts"))
         })?,
@@ -301,6 +378,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         },
     };
     let to_rad = match angle_unit.to_radians(opts.counts_per_rev) {
+        _ if let Some(sc) = signal => sc.radians_per_signal(),
         Some(f) => f,
         None => {
             return Err(match opts.counts_per_rev {
@@ -340,6 +418,10 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let angle_step = (angle_unit == AngleUnit::Counts).then_some(to_rad);
     let time = match (&clock, &rate) {
         (Clock::Column(i, u), _) => TimeBase::Column { name: header[*i].clone(), unit: *u },
+        (Clock::Stamps(i, _), _) => TimeBase::Stamps {
+            name: header[*i].clone(),
+            first: first_stamp.as_ref().map_or_else(String::new, |f| f.1.clone()),
+        },
         (Clock::Rate(hz), Some((_, source))) => TimeBase::Rate { hz: *hz, source: source.clone() },
         (Clock::Rate(hz), None) => TimeBase::Rate { hz: *hz, source: RateSource::Option },
     };
@@ -348,7 +430,22 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         preamble_lines: preamble.len(),
         time,
         angle_column: if bare { None } else { Some(header[ai].clone()) },
+        signal: signal.map(|sc| match opts.signal_zero {
+            Some(z) => format!("{sc}, zero at {z}{}", sc.signal_unit.as_deref().unwrap_or("")),
+            None => sc.to_string(),
+        }),
+        repeated_times: 0,
     };
+    let zero = opts.signal_zero.unwrap_or(0.0);
+    if !zero.is_finite() {
+        return Err(err(None, format!("--signal-zero {zero}: expected a finite reading")));
+    }
+    let angle_in = match signal {
+        Some(sc) => sc.signal_unit.clone().unwrap_or_else(|| "signal units".into()),
+        None => angle_unit.to_string(),
+    };
+    // Decimals each time was written with (for telling rounded times from repeated samples).
+    let mut decimals: Vec<Option<u32>> = Vec::new();
 
     let mut table = Table {
         times: Vec::new(),
@@ -384,17 +481,28 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 fields.len()
             ))
         } else {
+            let raw_t = |i: usize| fields.get(i).map_or("", String::as_str);
             let t = match clock {
-                Clock::Column(i, u) => value(i, "time", u.to_string()).map(|t| t * u.to_seconds()),
-                Clock::Rate(hz) => Ok(k as f64 / hz),
+                Clock::Column(i, u) => value(i, "time", u.to_string())
+                    .map(|t| (t * u.to_seconds(), duplicates::decimals(raw_t(i)))),
+                Clock::Stamps(i, first) => match stamps::parse(raw_t(i)) {
+                    Some(s) => Ok((s.since(first), Some(s.decimals))),
+                    None => Err(format!(
+                        "expected an ISO 8601 timestamp such as 2026-12-02T18:21:52.125Z (column {}), found \"{}\"",
+                        column_name(&header, i),
+                        raw_t(i)
+                    )),
+                },
+                Clock::Rate(hz) => Ok((k as f64 / hz, None)),
             };
-            t.and_then(|t| value(ai, "angle", angle_unit.to_string()).map(|a| (t, a)))
+            t.and_then(|t| value(ai, "angle", angle_in.clone()).map(|a| (t, a)))
         };
         match parsed {
-            Ok((t, a)) => {
+            Ok(((t, dec), a)) => {
                 table.times.push(t);
-                table.angles.push(a);
+                table.angles.push(if signal.is_some() { a - zero } else { a });
                 table.lines.push(*line);
+                decimals.push(dec);
             }
             Err(_) if opts.drop_bad_rows => table.dropped_lines.push(*line),
             Err(kind) => return Err(err(Some(*line), kind)),
@@ -406,6 +514,15 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     }
     for a in &mut table.angles {
         *a *= to_rad;
+    }
+    if table.times.windows(2).any(|w| w[1] == w[0]) {
+        let unit_s = match clock {
+            Clock::Column(_, u) => u.to_seconds(),
+            _ => 1.0,
+        };
+        table.layout.repeated_times =
+            duplicates::resolve(&mut table, &decimals, unit_s, opts.duplicate_times)
+                .map_err(|(line, kind)| err(Some(line), kind))?;
     }
     if table.times.is_empty() {
         let kind = if table.dropped_lines.is_empty() {

@@ -12,7 +12,8 @@ use proptest::prelude::*;
 use rand::{Rng, SeedableRng, rngs::StdRng};
 use rand_distr::{Distribution, Normal};
 use swingfit::data::survey::survey;
-use swingfit::data::{AngleLog, LoadOptions, MIN_SAMPLES, parse};
+use swingfit::data::{AngleLog, DuplicateTimes, LoadOptions, MIN_SAMPLES, parse};
+use swingfit::units::SignalScale;
 
 /// docs/checks.md §3 worked example: ωd [rad/s], σ [1/s], T_d [s].
 const WD: f64 = 3.83517519156557;
@@ -685,4 +686,113 @@ fn angles_at_a_stated_or_given_rate() {
     let log = load(&text, &LoadOptions { drop_bad_rows: true, ..deg });
     assert_eq!(log.dropped_lines(), &[12]);
     assert!((log.times()[10] - 0.22).abs() < 1e-12);
+}
+
+#[test]
+fn iso_timestamps_become_seconds_from_the_first_across_a_date_change() {
+    // 50 Hz from 2026-12-31T23:59:59 at UTC-05:00 on; every other stamp written at +01:00, so
+    // the date in the text changes from 12-31 to 01-01 while the instants step by 0.02 s
+    // (RFC 3339 §5.6: the local time minus the offset is the UTC instant).
+    let mut s = String::from("timestamp;theta_rad\n");
+    for i in 0..300u32 {
+        let ms = 59_000 + 20 * i; // ms past 23:59 at -05:00
+        let (sec, milli) = (ms / 1000, ms % 1000);
+        let stamp = if i % 2 == 0 {
+            let (m, sec) = (59 + sec / 60, sec % 60);
+            let (h, m) = (23 + m / 60, m % 60);
+            if h == 23 {
+                format!("2026-12-31T{h:02}:{m:02}:{sec:02}.{milli:03}-05:00")
+            } else {
+                format!("2027-01-01T{:02}:{m:02}:{sec:02}.{milli:03}-05:00", h - 24)
+            }
+        } else {
+            // Six hours later on the clock: +01:00.
+            let total = 23 * 3600 + 59 * 60 + sec + 6 * 3600 - 24 * 3600;
+            let (h, m, sec) = (total / 3600, total / 60 % 60, total % 60);
+            format!("2027-01-01 {h:02}:{m:02}:{sec:02},{milli:03}+0100")
+        };
+        s.push_str(&format!("{stamp};{:.6}\n", damped(0.02 * f64::from(i), 0.1, 0.3)));
+    }
+    let log = load(&s, &opts());
+    assert_eq!(log.len(), 300);
+    for (i, t) in log.times().iter().enumerate() {
+        assert!((t - 0.02 * i as f64).abs() < 1e-9, "sample {i} at {t}");
+    }
+    assert!(log.layout().time_words().contains("timestamps in column 'timestamp'"));
+    // A stamp that is not one is refused at its line.
+    let bad = s.replacen("2026-12-31T23:59:59.040-05:00", "2026-12-31T23:59:61.040-05:00", 1);
+    refused(&bad, &opts(), Some(4), "expected an ISO 8601 timestamp");
+}
+
+#[test]
+fn repeated_times_rounded_or_repeated_are_told_apart() {
+    // A logger printing 4 significant figures at 20 Hz: from 100 s on the printed step is 0.1 s
+    // and every other time repeats.
+    let mut s = String::from("time_s,theta_rad\n");
+    for i in 0..4000 {
+        let t = 0.05 * i as f64;
+        let printed = format!("{:.*}", if t < 10.0 { 3 } else if t < 100.0 { 2 } else { 1 }, t);
+        s.push_str(&format!("{printed},{:.6}\n", damped(t, 0.1, 0.3)));
+    }
+    refused(
+        &s,
+        &opts(),
+        Some(2004),
+        "printed to 4 significant figures, a step of 0.1 s from 100 s on",
+    );
+    refused(&s, &opts(), Some(2004), "give --rate 20 ");
+    let o = |m| LoadOptions { duplicate_times: m, ..opts() };
+    let first = load(&s, &o(DuplicateTimes::KeepFirst));
+    let mean = load(&s, &o(DuplicateTimes::Mean));
+    assert_eq!(first.len(), mean.len());
+    assert_eq!(first.layout().repeated_times, 4000 - first.len());
+    // With --rate the rows are timed by the rate instead, and nothing repeats.
+    let log = load(&s, &LoadOptions { rate_hz: Some(20.0), ..opts() });
+    assert_eq!(log.len(), 4000);
+    assert!((log.times()[3999] - 199.95).abs() < 1e-9);
+    // A true repeat: a row written twice, the times finer than the interval.
+    let g = good_text(300);
+    let mut lines: Vec<&str> = g.lines().collect();
+    lines[41] = lines[40];
+    let text = lines.join("\n");
+    refused(&text, &opts(), Some(42), "(a repeated sample: the times are printed to 0.0001 s");
+    let log = load(&text, &o(DuplicateTimes::KeepFirst));
+    assert_eq!((log.len(), log.layout().repeated_times), (299, 1));
+    // Mean of two rows with different angles at one time.
+    let mut lines: Vec<String> = g.lines().map(str::to_string).collect();
+    lines[41] = format!("{},0.5", lines[40].split(',').next().unwrap_or(""));
+    lines[40] = format!("{},0.3", lines[40].split(',').next().unwrap_or(""));
+    let log = load(&lines.join("\n"), &o(DuplicateTimes::Mean));
+    assert!((log.angles()[39] - 0.4).abs() < 1e-12);
+}
+
+#[test]
+fn a_voltage_is_read_through_its_calibration() {
+    // 0.05 V per degree, zero at 0.12 V: V = 0.12 + 0.05 × θ[deg].
+    let mut s = String::from("Run 4\nTime ( s )\tVoltage ( V )\n");
+    for i in 0..300 {
+        let t = 0.02 * i as f64;
+        s.push_str(&format!("{t:.2}\t{:.7}\n", 0.12 + 0.05 * damped(t, 0.1, 0.3).to_degrees()));
+    }
+    // Without a calibration the message says how to give one.
+    refused(&s, &opts(), Some(2), "--signal-scale VALUE[UNIT]/deg");
+    let cal = |scale: &str, zero| LoadOptions {
+        signal_scale: Some(SignalScale::parse(scale).unwrap_or_else(|e| panic!("{e}"))),
+        signal_zero: zero,
+        ..opts()
+    };
+    let log = load(&s, &cal("0.05V/deg", Some(0.12)));
+    assert!((log.angles()[7] - damped(0.14, 0.1, 0.3)).abs() < 1e-6);
+    assert_eq!(log.layout().signal.as_deref(), Some("0.05V/deg, zero at 0.12V"));
+    // Same without the zero: the angle is offset by 0.12 / 0.05 deg.
+    let off = load(&s, &cal("0.05/deg", None));
+    assert!((off.angles()[7] - log.angles()[7] - 2.4f64.to_radians()).abs() < 1e-9);
+    refused(&s, &cal("50mV/deg", None), Some(2), "is in V, but --signal-scale 50mV/deg is per mV");
+    refused(
+        &s,
+        &LoadOptions { angle_unit: Some("deg".into()), ..cal("0.05V/deg", None) },
+        None,
+        "both say how to read the angle",
+    );
+    refused(&s, &LoadOptions { signal_zero: Some(0.1), ..opts() }, None, "expected --signal-scale");
 }
