@@ -201,7 +201,10 @@ mod tests {
     #[test]
     fn signal_scales() {
         let s = SignalScale::parse("0.05V/deg").unwrap_or_else(|e| panic!("{e}"));
-        assert_eq!((s.per, s.signal_unit.as_deref(), s.angle_unit), (0.05, Some("V"), AngleUnit::Degrees));
+        assert_eq!(
+            (s.per, s.signal_unit.as_deref(), s.angle_unit),
+            (0.05, Some("V"), AngleUnit::Degrees)
+        );
         // 0.05 V per degree: 1 V is 20 degrees.
         assert!((s.radians_per_signal() - 20f64.to_radians()).abs() < 1e-15);
         let s = SignalScale::parse("2.5e-3 mV / rad").unwrap_or_else(|e| panic!("{e}"));

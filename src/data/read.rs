@@ -15,8 +15,8 @@ pub use layout::{MAX_PREAMBLE, Stated, is_rate_key};
 
 use layout::{Delim, Start, number};
 use names::{
-    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, SIGNAL_NAMES, TIME_NAMES, bare_unit, choose, split_header, unit_token,
-    unitless,
+    ANGLE_NAMES, COUNT_NAMES, HeaderUnit, SIGNAL_NAMES, TIME_NAMES, bare_unit, choose,
+    split_header, unit_token, unitless,
 };
 
 use super::{Layout, LoadError, LoadOptions, RateSource, TimeBase};
@@ -288,7 +288,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             if let Some(u) = &opts.time_unit {
                 return Err(err(
                     None,
-                    format!("--time-unit {u} is for times in numbers, but column '{tname}' holds timestamps: drop the option"),
+                    format!(
+                        "--time-unit {u} is for times in numbers, but column '{tname}' holds timestamps: drop the option"
+                    ),
                 ));
             }
             Clock::Stamps(ti, first)
@@ -515,7 +517,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     for a in &mut table.angles {
         *a *= to_rad;
     }
-    if table.times.windows(2).any(|w| w[1] == w[0]) {
+    if table.times.windows(2).any(|w| w[1].total_cmp(&w[0]).is_eq()) {
         let unit_s = match clock {
             Clock::Column(_, u) => u.to_seconds(),
             _ => 1.0,

@@ -731,7 +731,17 @@ fn repeated_times_rounded_or_repeated_are_told_apart() {
     let mut s = String::from("time_s,theta_rad\n");
     for i in 0..4000 {
         let t = 0.05 * i as f64;
-        let printed = format!("{:.*}", if t < 10.0 { 3 } else if t < 100.0 { 2 } else { 1 }, t);
+        let printed = format!(
+            "{:.*}",
+            if t < 10.0 {
+                3
+            } else if t < 100.0 {
+                2
+            } else {
+                1
+            },
+            t
+        );
         s.push_str(&format!("{printed},{:.6}\n", damped(t, 0.1, 0.3)));
     }
     refused(

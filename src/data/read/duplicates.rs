@@ -39,7 +39,7 @@ pub(super) fn resolve(
     mode: DuplicateTimes,
 ) -> Result<usize, (u64, String)> {
     let n = t.times.len();
-    let Some(i) = (1..n).find(|&i| t.times[i] == t.times[i - 1]) else {
+    let Some(i) = (1..n).find(|&i| t.times[i].total_cmp(&t.times[i - 1]).is_eq()) else {
         return Ok(0);
     };
     if mode == DuplicateTimes::Refuse {
@@ -58,7 +58,8 @@ pub(super) fn resolve(
                     j -= 1;
                 }
                 // The sample interval from the rows printed finer, where it is there to read.
-                let mut fine: Vec<f64> = t.times[..j.max(1)].windows(2).map(|w| w[1] - w[0]).collect();
+                let mut fine: Vec<f64> =
+                    t.times[..j.max(1)].windows(2).map(|w| w[1] - w[0]).collect();
                 let dt = if fine.len() >= 2 {
                     let m = fine.len() / 2;
                     *fine.select_nth_unstable_by(m, f64::total_cmp).1
@@ -66,7 +67,8 @@ pub(super) fn resolve(
                     dt
                 };
                 let raw = t.times[i] / unit_s;
-                let figures = d + if raw.abs() >= 1.0 { raw.abs().log10().floor() as u32 + 1 } else { 0 };
+                let figures =
+                    d + if raw.abs() >= 1.0 { raw.abs().log10().floor() as u32 + 1 } else { 0 };
                 (
                     line,
                     format!(
@@ -84,7 +86,8 @@ pub(super) fn resolve(
                 format!(
                     "time {} s repeats the one on line {prev} (a repeated sample: {}the samples come every {} s): expected strictly increasing time; {proceed}",
                     sig4(t.times[i]),
-                    step.map(|r| format!("the times are printed to {} s and ", sig4(r))).unwrap_or_default(),
+                    step.map(|r| format!("the times are printed to {} s and ", sig4(r)))
+                        .unwrap_or_default(),
                     sig4(dt),
                 ),
             ),
@@ -95,7 +98,7 @@ pub(super) fn resolve(
     let mut k = 0;
     while k < n {
         let mut e = k + 1;
-        while e < n && t.times[e] == t.times[k] {
+        while e < n && t.times[e].total_cmp(&t.times[k]).is_eq() {
             e += 1;
         }
         let a = match mode {

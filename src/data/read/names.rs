@@ -45,8 +45,8 @@ pub(super) const ANGLE_NAMES: &[&str] = &[
 /// Names of a column holding a calibrated signal (a voltage, a reading) taken as the angle
 /// column when a signal scale is given and no angle column is named.
 pub(super) const SIGNAL_NAMES: &[&str] = &[
-    "voltage", "volts", "volt", "v", "signal", "output", "reading", "value", "cha", "chb",
-    "ch1", "ch2", "ain0", "ain1", "a0", "a1",
+    "voltage", "volts", "volt", "v", "signal", "output", "reading", "value", "cha", "chb", "ch1",
+    "ch2", "ain0", "ain1", "a0", "a1",
 ];
 /// Angle names that mean encoder counts when no unit is given.
 pub(super) const COUNT_NAMES: &[&str] = &["enc", "encoder", "counts", "count", "ticks"];

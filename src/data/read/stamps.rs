@@ -97,9 +97,11 @@ pub(super) fn parse(s: &str) -> Option<Stamp> {
             let (oh, rest) = digits(r, 2)?;
             let om = match rest {
                 "" => 0,
-                _ => digits(rest.strip_prefix(':').unwrap_or(rest), 2)
-                    .filter(|(_, tail)| tail.is_empty())?
-                    .0,
+                _ => {
+                    digits(rest.strip_prefix(':').unwrap_or(rest), 2)
+                        .filter(|(_, tail)| tail.is_empty())?
+                        .0
+                }
             };
             if oh > 23 || om > 59 {
                 return None;
@@ -117,8 +119,8 @@ pub(super) fn parse(s: &str) -> Option<Stamp> {
     {
         return None;
     }
-    let local = days_since_epoch(year, month, day) * 86_400
-        + i64::from(hour * 3600 + minute * 60 + second);
+    let local =
+        days_since_epoch(year, month, day) * 86_400 + i64::from(hour * 3600 + minute * 60 + second);
     Some(Stamp { secs: local - offset_min * 60, frac, decimals })
 }
 
