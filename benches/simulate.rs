@@ -12,7 +12,8 @@ use swingfit::model::{DampingSet, Physics, Release};
 /// An invented article: ωn = 4 rad/s, light damping of every kind, released at 0.6 rad, still
 /// swinging (many hundreds of reversals) at the end of the 120 s log.
 fn case() -> (Physics, Release, Vec<f64>) {
-    let physics = Physics { omega_n: 4.0, damping: [0.004, 0.0004, 0.002, 0.0], breakaway: None };
+    let physics =
+        Physics { omega_n: 4.0, damping: [0.004, 0.0004, 0.002, 0.0, 0.0, 0.0], breakaway: None };
     let release = Release { equilibrium: 0.01, angle: 0.6, velocity: 0.0 };
     let times: Vec<f64> = (0..120_000).map(|i| i as f64 * 1e-3).collect();
     (physics, release, times)

@@ -155,7 +155,8 @@ pub fn simulate_with_sensitivities(
         1 => rk4::run::<5>(physics, release, times, terms, max_step)?,
         2 => rk4::run::<6>(physics, release, times, terms, max_step)?,
         3 => rk4::run::<7>(physics, release, times, terms, max_step)?,
-        _ => rk4::run::<8>(physics, release, times, terms, max_step)?,
+        4 => rk4::run::<8>(physics, release, times, terms, max_step)?,
+        _ => rk4::run::<9>(physics, release, times, terms, max_step)?,
     };
     Ok((traj, Sensitivities { n_params: 1 + terms.len() + crate::model::RELEASE_PARAMS, d_angle }))
 }
@@ -208,7 +209,8 @@ pub fn for_each_sensitivity(
         1 => go!(5),
         2 => go!(6),
         3 => go!(7),
-        _ => go!(8),
+        4 => go!(8),
+        _ => go!(9),
     }
 }
 
@@ -437,9 +439,8 @@ impl Rhs {
     pub(crate) fn damping_accel(&self, omega: f64, dir: f64) -> f64 {
         let mut d = 0.0;
         for t in Term::ALL {
-            let c = self.damping[t.index()];
-            if c != 0.0 {
-                d += t.accel(c, omega, dir);
+            if self.damping[t.index()] != 0.0 {
+                d += t.accel(&self.damping, omega, dir);
             }
         }
         d
@@ -447,12 +448,11 @@ impl Rhs {
 
     /// ∂(Σ accel)/∂ω.
     #[inline(always)]
-    pub(crate) fn damping_domega(&self, omega: f64) -> f64 {
+    pub(crate) fn damping_domega(&self, omega: f64, dir: f64) -> f64 {
         let mut d = 0.0;
         for t in Term::ALL {
-            let c = self.damping[t.index()];
-            if c != 0.0 {
-                d += t.daccel_domega(c, omega);
+            if self.damping[t.index()] != 0.0 {
+                d += t.daccel_domega(&self.damping, omega, dir);
             }
         }
         d

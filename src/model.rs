@@ -7,8 +7,9 @@
 //!
 //! Free decay can only identify the coefficients *per unit inertia*, so the model works in that
 //! view ([`Physics`]): ωn² = m g d / J, viscous b1 = c/J [1/s], Coulomb b0 = τc/J [rad/s²],
-//! quadratic b2 = cq/J [1/rad], and the pre-sliding stiffness σ = k/J [1/s²] of the Coulomb
-//! friction (docs/friction.md). The physical view (J, c, τc, cq) needs m, d and g and lives in
+//! quadratic b2 = cq/J [1/rad], the pre-sliding stiffness σ = k/J [1/s²] of the Coulomb
+//! friction, and the Stribeck excess bs = (τs − τc)/J [rad/s²] with its characteristic velocity
+//! vs [rad/s] (docs/friction.md). The physical view (J, c, τc, cq) needs m, d and g and lives in
 //! [`crate::physical`]; the one conversion between the two views is there.
 //!
 //! Each damping mechanism is a [`Term`]. A model is a [`DampingSet`] of terms; everything a term
@@ -33,15 +34,29 @@ pub enum Term {
     /// Its [`Term::accel`] is zero: the force needs the angle and the friction state, so the
     /// integrators evaluate it (see `integrate::Rhs`).
     Presliding,
+    /// Stribeck excess bs of the Coulomb friction: the friction level rises from b0 at speed to
+    /// b0 + bs at rest, as b0 + bs·exp(−(ω/vs)²) (docs/friction.md). Only meaningful together
+    /// with [`Term::Coulomb`] and [`Term::StribeckVelocity`] (the parser adds both).
+    Stribeck,
+    /// Characteristic (Stribeck) velocity vs [rad/s] of [`Term::Stribeck`]: the second
+    /// coefficient of the same mechanism, kept in a slot of its own so that every parameter
+    /// vector stays one coefficient per slot. It is not scaled by the inertia.
+    StribeckVelocity,
 }
 
-/// Number of damping terms (length of [`Term::ALL`] and of [`Physics::damping`]).
-pub const N_TERMS: usize = 4;
+/// Number of coefficient slots (length of [`Term::ALL`] and of [`Physics::damping`]).
+pub const N_TERMS: usize = 6;
 
 impl Term {
     /// Every term, in the canonical order used for parameter vectors and reports.
-    pub const ALL: [Term; N_TERMS] =
-        [Term::Viscous, Term::Coulomb, Term::Quadratic, Term::Presliding];
+    pub const ALL: [Term; N_TERMS] = [
+        Term::Viscous,
+        Term::Coulomb,
+        Term::Quadratic,
+        Term::Presliding,
+        Term::Stribeck,
+        Term::StribeckVelocity,
+    ];
 
     /// Index of the term in [`Term::ALL`].
     pub fn index(self) -> usize {
@@ -50,6 +65,8 @@ impl Term {
             Term::Coulomb => 1,
             Term::Quadratic => 2,
             Term::Presliding => 3,
+            Term::Stribeck => 4,
+            Term::StribeckVelocity => 5,
         }
     }
 
@@ -60,7 +77,21 @@ impl Term {
             Term::Coulomb => "coulomb",
             Term::Quadratic => "quadratic",
             Term::Presliding => "presliding",
+            Term::Stribeck => "stribeck",
+            Term::StribeckVelocity => "stribeck_velocity",
         }
+    }
+
+    /// Whether this slot is a mechanism of its own (every term but
+    /// [`Term::StribeckVelocity`], which is the second coefficient of [`Term::Stribeck`]).
+    pub fn is_mechanism(self) -> bool {
+        self != Term::StribeckVelocity
+    }
+
+    /// Whether the physical coefficient is this one times the inertia J (all but the Stribeck
+    /// velocity, which is a speed in both views).
+    pub fn scales_with_inertia(self) -> bool {
+        self != Term::StribeckVelocity
     }
 
     /// Parse a name as given on the command line (case-insensitive).
@@ -70,6 +101,8 @@ impl Term {
             "coulomb" | "dry" | "c" => Some(Term::Coulomb),
             "quadratic" | "q" => Some(Term::Quadratic),
             "presliding" | "pre-sliding" | "elastoplastic" | "p" => Some(Term::Presliding),
+            "stribeck" | "s" => Some(Term::Stribeck),
+            "stribeck_velocity" => Some(Term::StribeckVelocity),
             _ => None,
         }
     }
@@ -81,6 +114,8 @@ impl Term {
             Term::Coulomb => "rad/s^2",
             Term::Quadratic => "1/rad",
             Term::Presliding => "1/s^2",
+            Term::Stribeck => "rad/s^2",
+            Term::StribeckVelocity => "rad/s",
         }
     }
 
@@ -91,6 +126,8 @@ impl Term {
             Term::Coulomb => "N*m",
             Term::Quadratic => "N*m*s^2/rad^2",
             Term::Presliding => "N*m/rad",
+            Term::Stribeck => "N*m",
+            Term::StribeckVelocity => "rad/s",
         }
     }
 
@@ -101,43 +138,78 @@ impl Term {
             Term::Coulomb => "b0",
             Term::Quadratic => "b2",
             Term::Presliding => "sigma",
+            Term::Stribeck => "bs",
+            Term::StribeckVelocity => "vs",
         }
     }
 
-    /// Deceleration this term contributes, per unit inertia, for coefficient `coef`, angular
-    /// velocity `omega` and direction of motion `dir` (+1 or −1; the sign Coulomb friction opposes,
-    /// held fixed between velocity reversals so that friction never chatters).
-    /// The equation of motion subtracts it: θ'' = −ωn² sin(θ−θeq) − Σ accel.
+    /// Deceleration this term contributes, per unit inertia, given every coefficient `c`
+    /// (indexed by [`Term::index`]), angular velocity `omega` and direction of motion `dir` (+1
+    /// or −1; the sign Coulomb friction opposes, held fixed between velocity reversals so that
+    /// friction never chatters). The equation of motion subtracts it:
+    /// θ'' = −ωn² sin(θ−θeq) − Σ accel. The Stribeck excess needs its velocity, hence all of `c`.
     #[inline]
-    pub fn accel(self, coef: f64, omega: f64, dir: f64) -> f64 {
+    pub fn accel(self, c: &[f64; N_TERMS], omega: f64, dir: f64) -> f64 {
+        let coef = c[self.index()];
         match self {
             Term::Viscous => coef * omega,
             Term::Coulomb => coef * dir,
             Term::Quadratic => coef * omega * omega.abs(),
-            Term::Presliding => 0.0,
+            Term::Presliding | Term::StribeckVelocity => 0.0,
+            Term::Stribeck => coef * dir * stribeck_shape(omega, c[Term::StribeckVelocity.index()]),
         }
     }
 
     /// ∂accel/∂ω.
     #[inline]
-    pub fn daccel_domega(self, coef: f64, omega: f64) -> f64 {
+    pub fn daccel_domega(self, c: &[f64; N_TERMS], omega: f64, dir: f64) -> f64 {
+        let coef = c[self.index()];
         match self {
             Term::Viscous => coef,
-            Term::Coulomb => 0.0,
+            Term::Coulomb | Term::Presliding | Term::StribeckVelocity => 0.0,
             Term::Quadratic => 2.0 * coef * omega.abs(),
-            Term::Presliding => 0.0,
+            Term::Stribeck => {
+                let vs = c[Term::StribeckVelocity.index()];
+                if vs > 0.0 {
+                    -2.0 * coef * dir * omega / (vs * vs) * stribeck_shape(omega, vs)
+                } else {
+                    0.0
+                }
+            }
         }
     }
 
-    /// ∂accel/∂coef.
+    /// ∂accel/∂(this term's coefficient).
     #[inline]
-    pub fn daccel_dcoef(self, omega: f64, dir: f64) -> f64 {
+    pub fn daccel_dcoef(self, c: &[f64; N_TERMS], omega: f64, dir: f64) -> f64 {
         match self {
             Term::Viscous => omega,
             Term::Coulomb => dir,
             Term::Quadratic => omega * omega.abs(),
             Term::Presliding => 0.0,
+            Term::Stribeck => dir * stribeck_shape(omega, c[Term::StribeckVelocity.index()]),
+            Term::StribeckVelocity => {
+                let vs = c[Term::StribeckVelocity.index()];
+                if vs > 0.0 {
+                    let r = omega / vs;
+                    c[Term::Stribeck.index()] * dir * 2.0 * r * r / vs * stribeck_shape(omega, vs)
+                } else {
+                    0.0
+                }
+            }
         }
+    }
+}
+
+/// The Stribeck curve's shape exp(−(ω/vs)²): 1 at rest, falling to 0 well above vs
+/// (Armstrong-Hélouvry 1991's exponential form with exponent 2; docs/friction.md). 0 when vs ≤ 0.
+#[inline]
+pub fn stribeck_shape(omega: f64, vs: f64) -> f64 {
+    if vs > 0.0 {
+        let r = omega / vs;
+        (-r * r).exp()
+    } else {
+        0.0
     }
 }
 
@@ -162,15 +234,19 @@ impl DampingSet {
         DampingSet(terms.iter().fold(0, |m, t| m | (1 << t.index())))
     }
 
-    /// Parse a comma-separated list such as `viscous,coulomb`.
+    /// Parse a comma-separated list such as `viscous,coulomb`; `stribeck` brings its velocity
+    /// slot with it.
     pub fn parse(s: &str) -> Result<DampingSet, String> {
         let mut set = DampingSet::EMPTY;
         for part in s.split(',').filter(|p| !p.trim().is_empty()) {
-            match Term::parse(part) {
+            match Term::parse(part).filter(|t| t.is_mechanism()) {
+                Some(Term::Stribeck) => {
+                    set = set.with(Term::Stribeck).with(Term::StribeckVelocity);
+                }
                 Some(t) => set = set.with(t),
                 None => {
                     return Err(format!(
-                        "unknown damping term \"{}\"; expected viscous, coulomb, quadratic or presliding",
+                        "unknown damping term \"{}\"; expected viscous, coulomb, quadratic, presliding or stribeck",
                         part.trim()
                     ));
                 }
@@ -181,12 +257,33 @@ impl DampingSet {
                 "empty damping set; expected one or more of viscous, coulomb, quadratic".into()
             );
         }
-        if set.contains(Term::Presliding) && !set.contains(Term::Coulomb) {
+        set.check()?;
+        Ok(set)
+    }
+
+    /// Why the set is no model, if it is none: pre-sliding and Stribeck are refinements of the
+    /// Coulomb friction (they need coulomb), and the two together (the LuGre combination) are
+    /// not modelled.
+    pub fn check(self) -> Result<(), String> {
+        if self.contains(Term::Presliding) && !self.contains(Term::Coulomb) {
             return Err("presliding is the stiffness of the Coulomb friction; \
                         it needs coulomb in the same set"
                 .into());
         }
-        Ok(set)
+        if self.contains(Term::Stribeck) != self.contains(Term::StribeckVelocity) {
+            return Err("stribeck and its velocity go together".into());
+        }
+        if self.contains(Term::Stribeck) && !self.contains(Term::Coulomb) {
+            return Err("stribeck is the rise of the Coulomb friction towards rest; \
+                        it needs coulomb in the same set"
+                .into());
+        }
+        if self.contains(Term::Stribeck) && self.contains(Term::Presliding) {
+            return Err("presliding and stribeck together (the LuGre combination) are not \
+                        modelled; fit one of them"
+                .into());
+        }
+        Ok(())
     }
 
     /// This set plus `t`.
@@ -246,14 +343,35 @@ impl DampingSet {
         v
     }
 
-    /// Whether the set is a model the integrators accept (pre-sliding only with Coulomb).
-    pub fn is_valid(self) -> bool {
-        !self.contains(Term::Presliding) || self.contains(Term::Coulomb)
+    /// The whole friction family: [`DampingSet::all_with_presliding`] and, for each of the
+    /// seven subsets that holds Coulomb friction, the same set with the Stribeck excess (fifteen
+    /// sets), smallest first.
+    pub fn all_friction_family() -> Vec<DampingSet> {
+        let mut v = DampingSet::all_with_presliding();
+        let extra: Vec<DampingSet> = DampingSet::all_nonempty()
+            .into_iter()
+            .filter(|s| s.contains(Term::Coulomb))
+            .map(|s| s.with(Term::Stribeck).with(Term::StribeckVelocity))
+            .collect();
+        v.extend(extra);
+        v.sort_by_key(|s| (s.len(), s.0));
+        v
     }
 
-    /// Names in canonical order, e.g. `["viscous", "coulomb"]`.
+    /// Whether the set is a model the integrators accept (see [`DampingSet::check`]).
+    pub fn is_valid(self) -> bool {
+        self.check().is_ok()
+    }
+
+    /// Number of mechanisms (the Stribeck velocity slot not counted).
+    pub fn n_mechanisms(self) -> usize {
+        self.iter().filter(|t| t.is_mechanism()).count()
+    }
+
+    /// Names of the mechanisms in canonical order, e.g. `["viscous", "coulomb", "stribeck"]`
+    /// (the Stribeck velocity slot goes with `stribeck` and is not named).
     pub fn names(self) -> Vec<&'static str> {
-        self.iter().map(Term::name).collect()
+        self.iter().filter(|t| t.is_mechanism()).map(Term::name).collect()
     }
 }
 
@@ -309,9 +427,17 @@ impl Physics {
         (s > 0.0 && b0 > 0.0).then_some(s)
     }
 
-    /// Static friction level per unit inertia used by the stick test.
+    /// Stribeck excess bs and velocity vs when the curve acts (both > 0), else `None`.
+    pub fn stribeck(&self) -> Option<(f64, f64)> {
+        let (bs, vs) = (self.coef(Term::Stribeck), self.coef(Term::StribeckVelocity));
+        (bs > 0.0 && vs > 0.0).then_some((bs, vs))
+    }
+
+    /// Static friction level per unit inertia used by the stick test: the friction at zero
+    /// speed, b0 + bs (the Stribeck curve at rest), or the breakaway level when higher.
     pub fn static_level(&self) -> f64 {
-        self.breakaway.unwrap_or(0.0).max(self.coef(Term::Coulomb))
+        let at_rest = self.coef(Term::Coulomb) + self.stribeck().map_or(0.0, |(bs, _)| bs);
+        self.breakaway.unwrap_or(0.0).max(at_rest)
     }
 
     /// Angular acceleration θ'' for angle `theta`, velocity `omega`, direction `dir` (±1)
@@ -321,9 +447,8 @@ impl Physics {
     pub fn accel(&self, theta: f64, omega: f64, dir: f64, equilibrium: f64) -> f64 {
         let mut a = -self.omega_n * self.omega_n * (theta - equilibrium).sin();
         for t in Term::ALL {
-            let c = self.damping[t.index()];
-            if c != 0.0 {
-                a -= t.accel(c, omega, dir);
+            if self.damping[t.index()] != 0.0 {
+                a -= t.accel(&self.damping, omega, dir);
             }
         }
         a
@@ -339,6 +464,14 @@ impl Physics {
             if !(c.is_finite() && c >= 0.0) {
                 return Err(format!("{} must be a finite number >= 0, found {}", t.name(), c));
             }
+        }
+        if self.coef(Term::Stribeck) > 0.0 && self.coef(Term::StribeckVelocity) <= 0.0 {
+            return Err("stribeck needs a stribeck_velocity > 0".into());
+        }
+        if self.presliding().is_some() && self.stribeck().is_some() {
+            return Err("presliding and stribeck together (the LuGre combination) are not \
+                        modelled; give one of them"
+                .into());
         }
         if self.presliding().is_some()
             && self.breakaway.is_some_and(|b| b > self.coef(Term::Coulomb))

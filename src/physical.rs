@@ -348,6 +348,12 @@ pub fn value_and_gradient(c: Coefficient, z: &Point) -> Option<(f64, [f64; input
             grad[OMEGA_N] = -2.0 * g / (w * w * w);
             g / (w * w)
         }
+        Coefficient::Damping(t) if !t.scales_with_inertia() => {
+            // A speed (the Stribeck velocity): the same in both views.
+            let idx = DAMPING + t.index();
+            grad[idx] = 1.0;
+            z.0[idx]
+        }
         Coefficient::Damping(t) => {
             let idx = DAMPING + t.index();
             let b = z.0[idx];

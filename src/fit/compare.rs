@@ -252,10 +252,10 @@ pub fn compare(logs: &[AngleLog], options: &CompareOptions) -> Comparison {
 
 /// The candidate sets a comparison fits by default: every non-empty subset of the three
 /// rate-dependent terms, and each of them that holds Coulomb friction with its pre-sliding
-/// stiffness too (a pre-sliding term only exists with Coulomb). (One place to extend when a new
-/// term joins.)
+/// stiffness, and with its Stribeck excess, too (both refine the Coulomb friction; fifteen
+/// sets). (One place to extend when a new term joins.)
 pub fn default_candidates() -> Vec<DampingSet> {
-    DampingSet::all_with_presliding()
+    DampingSet::all_friction_family()
 }
 
 /// [`compare`] with the surveys already made.

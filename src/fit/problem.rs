@@ -100,6 +100,11 @@ impl Layout {
         if let Some(k) = self.term_index(Term::Presliding) {
             lo[k] = 1e-9;
         }
+        // The Stribeck velocity stays > 0 (vs → 0 is no Stribeck excess at all, which the
+        // excess's own bound of zero already expresses).
+        if let Some(k) = self.term_index(Term::StribeckVelocity) {
+            lo[k] = 1e-6;
+        }
         (lo, hi)
     }
 }

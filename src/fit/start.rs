@@ -96,7 +96,12 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; N_TERM
     }
     // The pre-sliding stiffness has no first-order envelope basis (its spring stores, not
     // dissipates); it is started below from the Coulomb level and the smallest swing.
-    let terms: Vec<Term> = set.without(Term::Presliding).iter().collect();
+    let terms: Vec<Term> = set
+        .without(Term::Presliding)
+        .without(Term::Stribeck)
+        .without(Term::StribeckVelocity)
+        .iter()
+        .collect();
     let mut best: Option<(f64, [f64; 3])> = None;
     // Non-negative least squares by enumerating the active subsets (at most 7).
     for mask in 1u32..(1 << terms.len()) {
@@ -148,19 +153,29 @@ pub fn damping(peaks: &[&[Peak]], omega_n: f64, set: DampingSet) -> [f64; N_TERM
                 Term::Viscous => 0.05 * typical.0,
                 Term::Coulomb => 0.05 * typical.1 * omega_n,
                 Term::Quadratic => 0.05 * typical.0 / (omega_n * typical.2.max(1e-3)),
-                Term::Presliding => 0.0,
+                Term::Presliding | Term::Stribeck | Term::StribeckVelocity => 0.0,
             }
             .max(1e-9);
         }
     }
+    let a_min = peaks
+        .iter()
+        .flat_map(|r| r.iter().map(|p| p.deflection.abs()))
+        .filter(|a| *a > 0.0)
+        .fold(f64::INFINITY, f64::min);
+    if set.contains(Term::Stribeck) {
+        // The envelope's Coulomb level is the swing-averaged friction. Split it: the kinetic
+        // level a little below it and the excess at rest half of it, with the Stribeck velocity
+        // at half the peak speed of the smallest swing recorded, where the excess acts.
+        let b = coef[Term::Coulomb.index()];
+        coef[Term::Coulomb.index()] = 0.8 * b;
+        coef[Term::Stribeck.index()] = (0.5 * b).max(1e-9);
+        let a = if a_min.is_finite() { a_min } else { 1e-2 };
+        coef[Term::StribeckVelocity.index()] = (0.5 * omega_n * a).max(1e-6);
+    }
     if set.contains(Term::Presliding) {
         // Start with the spring's range b0/σ at a quarter of the smallest swing recorded, where
         // the period is most sensitive to σ (docs/friction.md).
-        let a_min = peaks
-            .iter()
-            .flat_map(|r| r.iter().map(|p| p.deflection.abs()))
-            .filter(|a| *a > 0.0)
-            .fold(f64::INFINITY, f64::min);
         let a_min = if a_min.is_finite() { a_min } else { 1e-2 };
         coef[Term::Presliding.index()] =
             (coef[Term::Coulomb.index()] / (0.25 * a_min)).max(1e-3 * omega_n * omega_n);

@@ -2,7 +2,7 @@
 //! forward sensitivities and true stick–slip.
 //!
 //! One driver serves both `simulate` (no sensitivities, `NP = 0`) and
-//! `simulate_with_sensitivities` (`NP` = 4…7 parameters), so the two give bit-identical states.
+//! `simulate_with_sensitivities` (`NP` = 4…9 parameters), so the two give bit-identical states.
 //! The sensitivity matrix S = ∂x/∂p is carried in fixed arrays `[f64; NP]`, so a step allocates
 //! nothing and the compiler unrolls the column loops. Events (ω = 0) are located by re-stepping
 //! from the sub-step start with a trial length found by [`super::locate_zero`].
@@ -79,7 +79,7 @@ impl<const NP: usize> Field<NP> {
         if elastic {
             a_th -= r.sigma;
         }
-        let a_om = -r.damping_domega(x.om);
+        let a_om = -r.damping_domega(x.om, dir);
         let mut so = [0.0; M];
         for ((d, st), sw) in so.iter_mut().zip(&x.st).zip(&x.so) {
             *d = a_th * st + a_om * sw;
@@ -87,7 +87,7 @@ impl<const NP: usize> Field<NP> {
         // f_p: ωn, then each fitted term's coefficient, then θeq (θ0 and ω0 enter only S(t0)).
         so[0] -= 2.0 * r.omega_n * s;
         for k in 0..self.n_terms {
-            so[1 + k] -= self.terms[k].daccel_dcoef(x.om, dir);
+            so[1 + k] -= self.terms[k].daccel_dcoef(&r.damping, x.om, dir);
         }
         so[1 + self.n_terms] += r.wn2 * c;
         if elastic {

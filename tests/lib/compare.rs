@@ -24,8 +24,8 @@ fn best_of(logs: &[AngleLog]) -> (Option<DampingSet>, String) {
     let c = compare(logs, &CompareOptions::default());
     assert_eq!(
         c.candidates.len(),
-        11,
-        "all eleven candidates (seven rate-dependent sets, four with pre-sliding) are listed"
+        15,
+        "all fifteen candidates (seven rate-dependent sets, four with pre-sliding, four with Stribeck) are listed"
     );
     (c.best, swingfit::report::verdict::comparison(&c))
 }
@@ -146,4 +146,27 @@ fn compare_does_not_choose_presliding_on_a_plain_coulomb_log() {
     assert_eq!(c.best, Some(DampingSet::from_terms(&[Term::Viscous, Term::Coulomb])));
     let note = c.presliding_note().expect("a note");
     assert!(note.contains("cannot determine a pre-sliding stiffness"), "{note}");
+}
+
+// Stribeck candidates, on the SciPy reference log of tests/reference/make_stribeck.py (truth in
+// tests/data/stribeck/stribeck_truth.json: viscous, coulomb, stribeck).
+
+#[test]
+fn compare_chooses_stribeck_on_a_stribeck_log() {
+    let path = format!("{}/tests/data/stribeck/stribeck_truth.csv", env!("CARGO_MANIFEST_DIR"));
+    let log =
+        swingfit::data::load(std::path::Path::new(&path), &swingfit::data::LoadOptions::default())
+            .unwrap_or_else(|e| panic!("{e}"));
+    let c =
+        swingfit::fit::compare::compare(&[log], &swingfit::fit::compare::CompareOptions::default());
+    assert_eq!(c.best, Some(DampingSet::parse("viscous,coulomb,stribeck").unwrap()));
+}
+
+#[test]
+fn compare_does_not_choose_stribeck_on_the_plain_coulomb_log() {
+    let c = swingfit::fit::compare::compare(
+        &[presliding_log("plain_viscous_coulomb.csv")],
+        &swingfit::fit::compare::CompareOptions::default(),
+    );
+    assert!(!c.best.expect("a best set").contains(Term::Stribeck));
 }

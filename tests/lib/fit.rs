@@ -373,7 +373,7 @@ fn presliding_simulation_matches_the_scipy_state_integration() {
     use swingfit::integrate::{Method, simulate};
     use swingfit::model::{Physics, Release};
     let truth = presliding_log("presliding_truth.truth.csv");
-    let p = Physics { omega_n: 5.0, damping: [0.01, 0.05, 0.0, 8.0], breakaway: None };
+    let p = Physics { omega_n: 5.0, damping: [0.01, 0.05, 0.0, 8.0, 0.0, 0.0], breakaway: None };
     let r = Release { equilibrium: 0.002, angle: 0.15, velocity: 0.05 };
     let tr = simulate(&p, &r, truth.times(), Method::DormandPrince { rtol: 1e-12, atol: 1e-14 })
         .expect("simulates");
@@ -413,4 +413,48 @@ fn presliding_fit_recovers_the_truth_inside_its_intervals() {
         .map(|p| p.rss)
         .unwrap_or(f64::INFINITY);
     assert!(plain > 4.0 * f.rss, "plain Coulomb RSS {plain} vs pre-sliding {}", f.rss);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Stribeck friction against the independent SciPy reference (tests/reference/make_stribeck.py
+// integrates the curve with sgn ω and its own stick rule; outputs in tests/data/stribeck/,
+// truth in stribeck_truth.json: ωn 5, b1 0.01, b0 0.03, bs 0.04, vs 0.1).
+
+fn stribeck_log(file: &str) -> AngleLog {
+    let path = format!("{}/tests/data/stribeck/{file}", env!("CARGO_MANIFEST_DIR"));
+    swingfit::data::load(std::path::Path::new(&path), &swingfit::data::LoadOptions::default())
+        .unwrap_or_else(|e| panic!("{e}"))
+}
+
+#[test]
+fn stribeck_simulation_matches_the_scipy_integration() {
+    use swingfit::integrate::{Method, simulate};
+    use swingfit::model::{Physics, Release};
+    let truth = stribeck_log("stribeck_truth.truth.csv");
+    let p = Physics { omega_n: 5.0, damping: [0.01, 0.03, 0.0, 0.0, 0.04, 0.1], breakaway: None };
+    let r = Release { equilibrium: 0.002, angle: 0.15, velocity: 0.05 };
+    let tr = simulate(&p, &r, truth.times(), Method::DormandPrince { rtol: 1e-12, atol: 1e-14 })
+        .expect("simulates");
+    let worst =
+        tr.angle.iter().zip(truth.angles()).map(|(a, b)| (a - b).abs()).fold(0.0f64, f64::max);
+    assert!(worst < 1e-9, "max |swingfit − SciPy| = {worst} rad");
+}
+
+#[test]
+fn stribeck_fit_recovers_the_truth_inside_its_intervals() {
+    let d = DampingSet::parse("viscous,coulomb,stribeck").unwrap();
+    let f = fit(&[stribeck_log("stribeck_truth.csv")], &opts(d)).unwrap_or_else(|e| panic!("{e}"));
+    let inside = |e: &swingfit::fit::Estimate, v: f64, name: &str| {
+        assert!(e.ci95.0 <= v && v <= e.ci95.1, "{name}: truth {v} outside {:?}", e.ci95);
+    };
+    inside(&f.omega_n, 5.0, "omega_n");
+    inside(f.term(Term::Viscous).expect("b1"), 0.01, "b1");
+    inside(f.term(Term::Coulomb).expect("b0"), 0.03, "b0");
+    inside(f.term(Term::Stribeck).expect("bs"), 0.04, "bs");
+    inside(f.term(Term::StribeckVelocity).expect("vs"), 0.1, "vs");
+    // Without the Stribeck term viscous+coulomb pins b1 at zero (the excess mimics a decay that
+    // grows as the swings shrink); Coulomb alone is fitted, and much worse.
+    let plain = fit(&[stribeck_log("stribeck_truth.csv")], &opts(set(&[Term::Coulomb])))
+        .unwrap_or_else(|e| panic!("{e}"));
+    assert!(plain.rss > 4.0 * f.rss, "plain Coulomb RSS {} vs Stribeck {}", plain.rss, f.rss);
 }

@@ -19,7 +19,7 @@ use swingfit::model::{DampingSet, Physics, Release, Term};
 const TIGHT: Method = Method::DormandPrince { rtol: 1e-12, atol: 1e-14 };
 
 fn physics(omega_n: f64, viscous: f64, coulomb: f64, quadratic: f64) -> Physics {
-    Physics { omega_n, damping: [viscous, coulomb, quadratic, 0.0], breakaway: None }
+    Physics { omega_n, damping: [viscous, coulomb, quadratic, 0.0, 0.0, 0.0], breakaway: None }
 }
 
 fn release(angle: f64, velocity: f64) -> Release {
@@ -452,7 +452,8 @@ fn uneven_times(n: usize, seed: u64) -> Vec<f64> {
 
 #[test]
 fn schemes_agree_on_non_uniform_times() {
-    let p = Physics { omega_n: 5.0, damping: [0.05, 0.3, 0.02, 0.0], breakaway: Some(0.4) };
+    let p =
+        Physics { omega_n: 5.0, damping: [0.05, 0.3, 0.02, 0.0, 0.0, 0.0], breakaway: Some(0.4) };
     let r = Release { equilibrium: 0.02, angle: 2.0, velocity: -0.5 };
     let times = uneven_times(2000, 7);
     let a = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.002 }).unwrap();
@@ -645,7 +646,8 @@ fn rk4_steps_over_dense_samples_with_hermite_output() {
     // within 1e-8 rad of a tight Dormand–Prince solution; sensitivities are interpolated alike.
     use swingfit::integrate::{Method, simulate, simulate_with_sensitivities};
     use swingfit::model::{DampingSet, Physics, Release};
-    let physics = Physics { omega_n: 4.0, damping: [0.02, 0.01, 0.01, 0.0], breakaway: None };
+    let physics =
+        Physics { omega_n: 4.0, damping: [0.02, 0.01, 0.01, 0.0, 0.0, 0.0], breakaway: None };
     let release = Release { equilibrium: 0.01, angle: 0.8, velocity: 0.0 };
     let dense: Vec<f64> = (0..20_001).map(|i| i as f64 * 1e-3).collect();
     let coarse: Vec<f64> = dense.iter().step_by(5).copied().collect();
@@ -684,7 +686,7 @@ fn rk4_steps_over_dense_samples_with_hermite_output() {
 // Pre-sliding (elastoplastic spring–slider) friction; docs/friction.md.
 
 fn presliding(omega_n: f64, viscous: f64, coulomb: f64, sigma: f64) -> Physics {
-    Physics { omega_n, damping: [viscous, coulomb, 0.0, sigma], breakaway: None }
+    Physics { omega_n, damping: [viscous, coulomb, 0.0, sigma, 0.0, 0.0], breakaway: None }
 }
 
 #[test]
@@ -721,4 +723,43 @@ fn presliding_rk4_agrees_with_dormand_prince() {
     assert!((a1 - a2).abs() < 2.0 * 0.3 / 20.0, "last swing {a1} .. {a2}");
     let expect = std::f64::consts::PI / (16.0f64 + 20.0 - 0.05 * 0.05 / 4.0).sqrt();
     assert!((half - expect).abs() < 1e-5 * expect, "half period {half} vs {expect}");
+}
+
+// ---------------------------------------------------------------------------------------------
+// Stribeck friction (the level rises from b0 to b0 + bs towards rest); docs/friction.md.
+
+fn stribeck(omega_n: f64, viscous: f64, coulomb: f64, bs: f64, vs: f64) -> Physics {
+    Physics { omega_n, damping: [viscous, coulomb, 0.0, 0.0, bs, vs], breakaway: None }
+}
+
+#[test]
+fn stribeck_sensitivities_match_central_differences() {
+    // Excess 0.2 rad/s² below ~0.3 rad/s, many reversals, no stick within 10 s.
+    let p = stribeck(4.0, 0.05, 0.1, 0.2, 0.3);
+    let r = Release { equilibrium: 0.01, angle: 0.4, velocity: 0.2 };
+    let terms = DampingSet::parse("viscous,coulomb,stribeck").unwrap();
+    let times = grid(10.0, 0.01);
+    let tr = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.002 }).unwrap();
+    assert!(reversals(&tr.events).len() >= 10);
+    assert!(stick(&tr.events).is_none());
+    check_sensitivities(&p, &r, terms, 10.0, "viscous+coulomb+stribeck");
+}
+
+#[test]
+fn stribeck_sticks_at_the_static_level_of_the_curve() {
+    // The friction at rest is b0 + bs: the article sticks where |ωn² sin(θ − θeq)| ≤ b0 + bs,
+    // which with the Coulomb level alone (b0 only) it would not.
+    let p = stribeck(4.0, 0.0, 0.1, 0.3, 0.05);
+    assert!((p.static_level() - 0.4).abs() < 1e-15);
+    let r = Release { equilibrium: 0.0, angle: 0.2, velocity: 0.0 };
+    let times = grid(30.0, 0.01);
+    let tr = simulate(&p, &r, &times, TIGHT).unwrap();
+    let (_, rest) = stick(&tr.events).expect("sticks");
+    let a_g = 16.0 * rest.sin().abs();
+    assert!(a_g <= 0.4 + 1e-9, "stuck outside the static band: {a_g}");
+    // The last reversal before the stick was outside the band b0 alone gives, or the last
+    // swing decayed into it: either way the stick angle is inside b0 + bs.
+    let rk = simulate(&p, &r, &times, Method::Rk4 { max_step: 0.001 }).unwrap();
+    let worst = rk.angle.iter().zip(&tr.angle).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max);
+    assert!(worst < 1e-6, "RK4 vs DOPRI {worst}");
 }

@@ -80,7 +80,7 @@ fn gum_example(r: f64) -> physical::PhysicalCoefficients {
     let fit = FittedDynamics {
         omega_n: w,
         terms: DampingSet::EMPTY,
-        damping: [0.0; 4],
+        damping: [0.0; swingfit::model::N_TERMS],
         cov: DMatrix::from_element(1, 1, (0.005 / (2.0 * w)).powi(2)),
     };
     let inp = inputs(
@@ -120,7 +120,7 @@ fn rod_example_reproduces_section_1_and_3() {
     let fit = FittedDynamics {
         omega_n: w,
         terms: DampingSet::from_terms(&[Term::Viscous, Term::Quadratic]),
-        damping: [0.075, 0.0, 0.003, 0.0],
+        damping: [0.075, 0.0, 0.003, 0.0, 0.0, 0.0],
         cov: DMatrix::zeros(3, 3),
     };
     let inp = inputs(
@@ -149,7 +149,7 @@ fn rod_example_reproduces_section_1_and_3() {
 
 #[test]
 fn analytic_sensitivities_match_central_differences() {
-    let z = Point([1.7, 0.42, 9.79, 3.1, 0.06, 0.02, 0.004, 0.0]);
+    let z = Point([1.7, 0.42, 9.79, 3.1, 0.06, 0.02, 0.004, 0.0, 0.0, 0.0]);
     let coefs = [
         Coefficient::InertiaPivot,
         Coefficient::InertiaCg,
@@ -194,7 +194,7 @@ fn fit_covariance_enters_with_its_correlation() {
         FittedDynamics {
             omega_n: w,
             terms: DampingSet::from_terms(&[Term::Viscous]),
-            damping: [0.05, 0.0, 0.0, 0.0],
+            damping: [0.05, 0.0, 0.0, 0.0, 0.0, 0.0],
             cov: DMatrix::from_row_slice(2, 2, &[uw * uw, r * uw * ub, r * uw * ub, ub * ub]),
         }
     };
@@ -222,7 +222,7 @@ fn bad_physical_inputs_are_errors() {
     let fit = FittedDynamics {
         omega_n: 3.0,
         terms: DampingSet::EMPTY,
-        damping: [0.0; 4],
+        damping: [0.0; swingfit::model::N_TERMS],
         cov: DMatrix::zeros(1, 1),
     };
     let ok_m = Measured { value: 1.0, u: 0.0 };

@@ -128,7 +128,7 @@ fn physical() -> PhysicalCoefficients {
         gyration_pivot: q(0.2234, 6e-5, "m"),
         gyration_cg: Some(q(0.0606, 2e-4, "m")),
         equivalent_length: q(0.2321, 5e-5, "m"),
-        damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None, None],
+        damping: [Some(q(0.00958, 4e-6, "N*m*s/rad")), None, None, None, None, None],
         period: q(0.9667, 1e-6, "s"),
         damping_ratio: Some(q(0.004, 2e-6, "1")),
         log_decrement: Some(q(0.02513, 1.3e-5, "1")),

@@ -127,6 +127,8 @@ pub fn coefficient_rows(
             Term::Coulomb => "Coulomb friction per unit inertia",
             Term::Quadratic => "quadratic damping per unit inertia",
             Term::Presliding => "pre-sliding friction stiffness per unit inertia",
+            Term::Stribeck => "Stribeck friction excess per unit inertia",
+            Term::StribeckVelocity => "Stribeck velocity",
         };
         rows.push(row(
             "per_unit_inertia",
@@ -192,6 +194,8 @@ fn physical_symbol(t: crate::model::Term) -> &'static str {
         Term::Coulomb => "τc",
         Term::Quadratic => "cq",
         Term::Presliding => "kσ",
+        Term::Stribeck => "τs−τc",
+        Term::StribeckVelocity => "vs",
     }
 }
 
@@ -203,6 +207,8 @@ fn physical_quantity(t: crate::model::Term) -> &'static str {
         Term::Coulomb => "Coulomb friction torque",
         Term::Quadratic => "quadratic damping coefficient",
         Term::Presliding => "pre-sliding friction stiffness",
+        Term::Stribeck => "Stribeck friction excess (static minus Coulomb torque)",
+        Term::StribeckVelocity => "Stribeck velocity",
     }
 }
 

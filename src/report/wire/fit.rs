@@ -103,6 +103,12 @@ pub struct Normalized {
     /// Pre-sliding stiffness σ of the Coulomb friction [1/s²].
     #[serde(skip_serializing_if = "Option::is_none")]
     pub presliding: Option<P>,
+    /// Stribeck excess bs of the friction at rest over b0 [rad/s²].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stribeck: Option<P>,
+    /// Stribeck velocity vs [rad/s].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stribeck_velocity: Option<P>,
 }
 
 /// Physical block.
@@ -142,6 +148,12 @@ pub struct Physical {
     /// k = σ·J, pre-sliding stiffness of the pivot friction [N·m/rad].
     #[serde(skip_serializing_if = "Option::is_none")]
     pub presliding: Option<P>,
+    /// τs − τc = bs·J, Stribeck excess torque [N·m].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stribeck: Option<P>,
+    /// Stribeck velocity vs [rad/s] (not scaled by J).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stribeck_velocity: Option<P>,
 }
 
 /// Gravity used.
@@ -518,6 +530,8 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             coulomb: term(Term::Coulomb),
             quadratic: term(Term::Quadratic),
             presliding: term(Term::Presliding),
+            stribeck: term(Term::Stribeck),
+            stribeck_velocity: term(Term::StribeckVelocity),
         },
         physical: physical.map(|p| Physical {
             inertia_pivot: P::from(&p.inertia_pivot),
@@ -533,6 +547,8 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             coulomb: p.damping[Term::Coulomb.index()].as_ref().map(P::from),
             quadratic: p.damping[Term::Quadratic.index()].as_ref().map(P::from),
             presliding: p.damping[Term::Presliding.index()].as_ref().map(P::from),
+            stribeck: p.damping[Term::Stribeck.index()].as_ref().map(P::from),
+            stribeck_velocity: p.damping[Term::StribeckVelocity.index()].as_ref().map(P::from),
         }),
         gravity: physical.map(|p| Gravity {
             value: p.gravity.value,

@@ -2,7 +2,7 @@
 //! document `fit --json` writes.
 //!
 //! Plain format (per unit inertia, SI, radians): [`PlainParams`], `{"omega_n", "viscous",
-//! "coulomb", "quadratic", "presliding", "breakaway", "equilibrium", "initial_angle",
+//! "coulomb", "quadratic", "presliding", "stribeck", "stribeck_velocity", "breakaway", "equilibrium", "initial_angle",
 //! "initial_velocity"}`; `omega_n` and `initial_angle` are required, absent damping terms are
 //! zero, absent `breakaway` equals `coulomb`, absent `equilibrium`/`initial_velocity` are zero.
 //! Unknown keys are refused (`deny_unknown_fields`) so that a typo cannot silently zero a term.
@@ -128,6 +128,12 @@ pub struct PlainParams {
     /// σ [1/s²].
     #[serde(default, deserialize_with = "number")]
     pub presliding: Option<f64>,
+    /// Stribeck excess bs [rad/s²].
+    #[serde(default, deserialize_with = "number")]
+    pub stribeck: Option<f64>,
+    /// Stribeck velocity vs [rad/s].
+    #[serde(default, deserialize_with = "number")]
+    pub stribeck_velocity: Option<f64>,
     /// Breakaway level per unit inertia [rad/s²] (default: `coulomb`).
     #[serde(default, deserialize_with = "number")]
     pub breakaway: Option<f64>,
@@ -180,6 +186,12 @@ pub struct FitNormalized {
     /// σ.
     #[serde(default)]
     pub presliding: Option<FitValue>,
+    /// Stribeck excess bs.
+    #[serde(default)]
+    pub stribeck: Option<FitValue>,
+    /// Stribeck velocity vs.
+    #[serde(default)]
+    pub stribeck_velocity: Option<FitValue>,
     /// Breakaway level.
     #[serde(default)]
     pub breakaway: Option<FitValue>,
@@ -293,6 +305,8 @@ fn from_plain(p: PlainParams, run: Option<usize>) -> Result<SimParams, ParamsErr
             Term::Coulomb => p.coulomb,
             Term::Quadratic => p.quadratic,
             Term::Presliding => p.presliding,
+            Term::Stribeck => p.stribeck,
+            Term::StribeckVelocity => p.stribeck_velocity,
         };
         physics.damping[t.index()] = c.unwrap_or(0.0);
     }
@@ -314,6 +328,8 @@ fn from_fit(doc: FitParams, run: Option<usize>) -> Result<SimParams, ParamsError
             Term::Coulomb => n.coulomb,
             Term::Quadratic => n.quadratic,
             Term::Presliding => n.presliding,
+            Term::Stribeck => n.stribeck,
+            Term::StribeckVelocity => n.stribeck_velocity,
         };
         physics.damping[t.index()] = c.map_or(0.0, FitValue::get);
     }
