@@ -9,6 +9,7 @@ mod common;
 mod compare;
 mod fit;
 mod plan;
+mod realdata;
 mod runs;
 mod segment;
 mod sheet;

@@ -1,14 +1,15 @@
 //! Real free-decay logs from public MIT-licensed repositories (tests/data/realdata/README.md),
 //! checked against what their sources state and against an independent SciPy fit
-//! (docs/checks.md §realdata). The files are kept verbatim; until the loader reads a log with no
-//! time column (a stated rate) and a title line above the header, each test builds the table
-//! the loader will see from the verbatim file, in memory, as documented beside each helper.
+//! (docs/checks.md §realdata). The files are kept verbatim and read by the loader as logged
+//! (a stated rate and no time column; a title line above the header), with the calibration
+//! documented beside each helper. tests/cli/realdata.rs runs the same files through the binary.
 
 use std::path::PathBuf;
 
 use swingfit::data::segment::{self, StartCause, Window};
 use swingfit::data::survey::survey;
-use swingfit::data::{AngleLog, LoadOptions, parse};
+use swingfit::data::{AngleLog, LoadOptions, load};
+use swingfit::units::SignalScale;
 use swingfit::fit::{FitOptions, fit};
 use swingfit::model::{DampingSet, Term};
 
@@ -16,35 +17,32 @@ fn realdata(rel: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/realdata").join(rel)
 }
 
-/// Rotary pendulum run `k` as the source logged it: two header lines, then one angle in degrees
-/// a line at the stated 1000 samples/s. The degrees are counts × (1/11) of the source's
-/// 4000-edge encoder (tests/data/realdata/README.md), so, like the independent SciPy fit, the
-/// angle is read back as counts (deg × 11) at 4000 counts/rev with t = i/1000 s.
+/// Rotary pendulum run `k` as the source logged it, read by the loader as is: two preamble
+/// lines (the names and values of `trigger_start_deg, sample_rate, duration_sec`), then one
+/// angle a line at the stated 1000 samples/s. The logged degrees are counts × (1/11) of the
+/// source's 4000-edge encoder, i.e. 4000/3960 = 1.010101 logged units per true degree
+/// (tests/data/realdata/README.md), given as the signal calibration, as the independent SciPy
+/// fit read them (4000 counts/rev).
 fn rotary(k: usize) -> AngleLog {
     let name = format!("rotary-pendulum-free-swing/pendulum_free_swing_data_0{k}.txt");
-    let text = std::fs::read_to_string(realdata(&name)).expect("realdata file");
-    let mut csv = String::from("t_s,counts\n");
-    for (i, line) in text.lines().skip(2).filter(|l| !l.trim().is_empty()).enumerate() {
-        let deg: f64 = line.trim().parse().expect("degrees");
-        csv.push_str(&format!("{:.3},{}\n", i as f64 / 1000.0, (deg * 11.0).round()));
-    }
-    let opts = LoadOptions { counts_per_rev: Some(4000.0), ..LoadOptions::default() };
-    parse(&name, csv.as_bytes(), &opts).expect("rotary log loads")
+    let opts = LoadOptions {
+        signal_scale: Some(SignalScale::parse("1.010101/deg").expect("scale")),
+        ..LoadOptions::default()
+    };
+    load(&realdata(&name), &opts).expect("rotary log loads")
 }
 
 /// Seismometer log `file` as logged: a title line, a tab-separated header `Time ( s )` /
-/// `Voltage ( V )`, then rows. The title line is dropped and the voltage is read as the angle
-/// (it is proportional to it; the source gives no factor, and ωn and the decay rates do not
-/// depend on the scale).
+/// `Voltage ( V )`, then rows, read by the loader as is with a calibration of 1 V/rad (the
+/// voltage is proportional to the angle; the source gives no factor, and ωn and the decay
+/// rates do not depend on the scale).
 fn seismometer(file: &str) -> Result<AngleLog, swingfit::data::LoadError> {
     let name = format!("seismometer-decay/{file}");
-    let text = std::fs::read_to_string(realdata(&name)).expect("realdata file");
-    let mut csv = String::from("t_s\tangle_rad\n");
-    for line in text.lines().skip(2) {
-        csv.push_str(line);
-        csv.push('\n');
-    }
-    parse(&name, csv.as_bytes(), &LoadOptions::default())
+    let opts = LoadOptions {
+        signal_scale: Some(SignalScale::parse("1V/rad").expect("scale")),
+        ..LoadOptions::default()
+    };
+    load(&realdata(&name), &opts)
 }
 
 fn viscous_coulomb() -> FitOptions {
