@@ -81,11 +81,17 @@ fn bad_keys_and_values_are_refused_in_one_line() {
         ),
         (format!("{deg}:from=soon"), "from: invalid type"),
         (format!("{deg}:log=other.csv"), "the log goes before the ':'"),
-        (format!("{deg}:counts_wrap=12"), "counts_wrap: expected a counter width of 8, 16, 24 or 32"),
+        (
+            format!("{deg}:counts_wrap=12"),
+            "counts_wrap: expected a counter width of 8, 16, 24 or 32",
+        ),
         (format!("{deg}:rate=0"), "rate: expected a positive sample rate"),
         (format!("{deg}:skip_lines=-1"), "skip_lines: expected a number of lines"),
         (format!("{deg}:duplicate_times=average"), "duplicate_times: expected keep-first or mean"),
-        (format!("{deg}:signal_scale=0.05V"), "signal_scale: \"0.05V\": expected VALUE[UNIT]/ANGLE_UNIT"),
+        (
+            format!("{deg}:signal_scale=0.05V"),
+            "signal_scale: \"0.05V\": expected VALUE[UNIT]/ANGLE_UNIT",
+        ),
         (format!("{deg}:signal_zero=nan"), "signal_zero: expected a finite reading"),
     ] {
         let out = swingfit().args(["fit", "--run", &arg]).output().expect("runs");
@@ -95,7 +101,8 @@ fn bad_keys_and_values_are_refused_in_one_line() {
         assert!(err.contains(&format!("--run {arg:?}: ")) && err.contains(expect), "{arg}: {err}");
     }
     // The new keys reach the loader: a counter width on a degrees log is refused by it.
-    let out = swingfit().args(["fit", "--run", &format!("{deg}:counts_wrap=16")]).output().expect("runs");
+    let out =
+        swingfit().args(["fit", "--run", &format!("{deg}:counts_wrap=16")]).output().expect("runs");
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("--counts-wrap is for encoder counts"), "{err}");
     // --run with loader options for all logs is ambiguous: refused by the parser (exit 2).

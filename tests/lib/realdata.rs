@@ -9,9 +9,9 @@ use std::path::PathBuf;
 use swingfit::data::segment::{self, StartCause, Window};
 use swingfit::data::survey::survey;
 use swingfit::data::{AngleLog, LoadOptions, load};
-use swingfit::units::SignalScale;
 use swingfit::fit::{FitOptions, fit};
 use swingfit::model::{DampingSet, Term};
+use swingfit::units::SignalScale;
 
 fn realdata(rel: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/realdata").join(rel)
