@@ -301,7 +301,7 @@ pub fn run(args: &FitArgs) -> CmdResult {
             .iter()
             .zip(&outcome.runs)
             .zip(&names)
-            .map(|((l, r), n)| plot::RunView::new(n, l.times(), l.angles(), r))
+            .map(|((l, r), n)| plot::RunView::new(n, l, r))
             .collect();
         let chart = plot::fit_overlay(&runs, outcome.omega_n.value, "fit");
         plot::write_chart(&chart, path).map_err(Failure::input)?;

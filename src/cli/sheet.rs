@@ -198,12 +198,7 @@ pub fn run(args: &SheetArgs) -> CmdResult {
         .iter()
         .zip(&outcome.runs)
         .zip(&plan.logs)
-        .map(|((l, r), (_, _, label))| RunView {
-            name: label,
-            times: l.times(),
-            angles: l.angles(),
-            fit: r,
-        })
+        .map(|((l, r), (_, _, label))| RunView::new(label, l, r))
         .collect();
     let argv: Vec<String> = std::env::args_os().map(|a| a.to_string_lossy().into_owned()).collect();
     let input = SheetInput {

@@ -498,8 +498,10 @@ pub fn envelope_fits(peaks: &[Vec<Peak>]) -> EnvelopeFits {
     EnvelopeFits { laws }
 }
 
-/// Measured period of each full cycle (every other midline crossing) against its amplitude.
-fn period_points(s: &Survey) -> Vec<PeriodPoint> {
+/// Measured period of each full cycle (from a crossing of the equilibrium to the next but one,
+/// the survey's crossings with hysteresis) against its mean amplitude. The one
+/// period-against-amplitude algorithm: the comparison and the sheet's plot both use it.
+pub fn period_points(s: &Survey) -> Vec<PeriodPoint> {
     let c = &s.crossings;
     let mut out = Vec::new();
     for i in 0..c.len().saturating_sub(2) {

@@ -1,20 +1,30 @@
-//! Plots of a fit: measured angle against the model, residuals, decay envelope, period against
-//! amplitude and the phase portrait, drawn with plotters as SVG and PNG.
+//! Plots of a fit: measured angle against the model, residuals with their distribution and
+//! autocorrelation, decay envelope, period against amplitude and the phase portrait, drawn with
+//! plotters as SVG and PNG.
 //!
-//! A [`Chart`] is plain data (title, axis labels with units, series of points); the builders in
-//! this module turn fit results into charts, and [`render_svg`] / [`render_png`] draw them. The
-//! PNG backend draws text with the embedded Noto Sans font (registered once, so no system fonts
-//! are needed). Long logs are decimated before drawing (min/max per pixel column), so no series
-//! has more than a few thousand points whatever the length of the log.
+//! A [`Chart`] is plain data (title, axis labels with units, series of points, optional panels
+//! below the main one); the builders here and in [`cycles`] and [`residual`] turn fit results
+//! into charts, and [`render_svg`] / [`render_png`] ([`draw`]) draw them. Every angle is measured
+//! from the fitted equilibrium, so an encoder run reads as a swing about zero. Peaks and
+//! crossings come from the one detector of the data survey ([`crate::data::survey`]); the
+//! plots do not detect them again. Long logs are decimated before drawing (min/max per pixel
+//! column), so no series has more than a few thousand points whatever the length of the log.
+
+pub mod cycles;
+pub mod draw;
+pub mod residual;
 
 use std::path::Path;
-use std::sync::Once;
 
-use plotters::coord::Shift;
-use plotters::prelude::*;
-
+use crate::data::AngleLog;
 use crate::fit::RunFit;
 use crate::fit::compare::Comparison;
+
+pub use cycles::{
+    Cycle, PeriodCycles, envelope, half_cycle_peaks, period_amplitude, period_cycles, period_points,
+};
+pub use draw::{render_png, render_svg};
+pub use residual::residuals;
 
 /// Drawing width of every chart [px].
 pub const WIDTH: u32 = 1200;
@@ -24,25 +34,71 @@ pub const HEIGHT: u32 = 640;
 pub const COLUMNS: usize = 1500;
 /// Most points of a parametric series (phase portrait) after thinning.
 pub const MAX_PARAMETRIC: usize = 4000;
+/// Degrees per radian.
+pub(crate) const DEG: f64 = 180.0 / std::f64::consts::PI;
 
 /// How a series is drawn.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Mark {
     /// Joined by a line.
     Line,
-    /// One dot per point.
+    /// One dot per point (with vertical interval bars when the series has `y_err`).
     Dots,
+    /// Histogram bars centred on each x, as wide as the spacing of the points, from zero to y.
+    Bars,
+    /// A vertical stem from zero to each point (autocorrelations).
+    Stems,
+}
+
+/// What a series is, which decides its colour, width and drawing order: models first (the
+/// rejected candidates muted), then the measured data on top, then reference curves.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Role {
+    /// Measured data: near black, thin, drawn over the models.
+    Measured,
+    /// The fitted model: a light, wide line under the data.
+    Model,
+    /// The model of the chosen damping set among compared candidates: strong.
+    Chosen,
+    /// A rejected candidate: muted; only the first one carries a legend entry.
+    Other,
+    /// A reference drawn over the data (noise Gaussian, confidence band, noise floor).
+    Reference,
 }
 
 /// One series of a chart.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Series {
-    /// Legend text.
+    /// Legend text; empty for no legend entry.
     pub label: String,
     /// Points (x, y), already decimated.
     pub points: Vec<(f64, f64)>,
-    /// Line or dots.
+    /// Line, dots, bars or stems.
     pub mark: Mark,
+    /// What the series is.
+    pub role: Role,
+    /// Half-widths of vertical interval bars, one per point, or empty for none.
+    pub y_err: Vec<f64>,
+}
+
+impl Series {
+    /// A series without interval bars.
+    pub fn new(label: impl Into<String>, points: Vec<(f64, f64)>, mark: Mark, role: Role) -> Self {
+        Series { label: label.into(), points, mark, role, y_err: Vec::new() }
+    }
+}
+
+/// A panel drawn below a chart's main plot (e.g. the residual histogram).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Panel {
+    /// Caption of the panel.
+    pub title: String,
+    /// x axis label with unit.
+    pub x_label: String,
+    /// y axis label with unit.
+    pub y_label: String,
+    /// The series.
+    pub series: Vec<Series>,
 }
 
 /// A chart as data: what is drawn, independent of the backend.
@@ -56,14 +112,20 @@ pub struct Chart {
     pub x_label: String,
     /// y axis label with unit.
     pub y_label: String,
-    /// The series, drawn in order (measured first, models after).
+    /// The series of the main plot.
     pub series: Vec<Series>,
+    /// Panels side by side below the main plot (none for most charts).
+    pub below: Vec<Panel>,
 }
 
 impl Chart {
-    /// Total points over every series.
+    /// Total points over every series of every panel.
     pub fn n_points(&self) -> usize {
-        self.series.iter().map(|s| s.points.len()).sum()
+        self.series
+            .iter()
+            .chain(self.below.iter().flat_map(|p| p.series.iter()))
+            .map(|s| s.points.len())
+            .sum()
     }
 }
 
@@ -85,18 +147,24 @@ pub type Points = Vec<(f64, f64)>;
 pub struct RunView<'a> {
     /// Name of the run on the plots (label or file name).
     pub name: &'a str,
-    /// Sample times [s].
-    pub times: &'a [f64],
-    /// Measured angles [rad].
-    pub angles: &'a [f64],
+    /// The measured log (times, angles, encoder step).
+    pub log: &'a AngleLog,
     /// The fitted run (model angle, velocity, residuals, equilibrium).
     pub fit: &'a RunFit,
 }
 
 impl<'a> RunView<'a> {
     /// A view of one run.
-    pub fn new(name: &'a str, times: &'a [f64], angles: &'a [f64], fit: &'a RunFit) -> RunView<'a> {
-        RunView { name, times, angles, fit }
+    pub fn new(name: &'a str, log: &'a AngleLog, fit: &'a RunFit) -> RunView<'a> {
+        RunView { name, log, fit }
+    }
+    /// Sample times [s].
+    pub fn times(&self) -> &'a [f64] {
+        self.log.times()
+    }
+    /// Measured angles [rad].
+    pub fn angles(&self) -> &'a [f64] {
+        self.log.angles()
     }
 }
 
@@ -152,87 +220,6 @@ pub fn thin(points: &[(f64, f64)], max: usize) -> Vec<(f64, f64)> {
     out
 }
 
-/// Half-cycle peaks of a run: the model's deflection θ−θeq changes sign at the half-cycle
-/// boundaries; in each half cycle the measured and the model extreme are taken.
-/// Returns (measured, model) lists of (time s, |deflection| rad).
-pub fn half_cycle_peaks(run: &RunView<'_>) -> (Points, Points) {
-    let eq = run.fit.equilibrium.value;
-    let model = &run.fit.model_angle;
-    let n = run.times.len().min(run.angles.len()).min(model.len());
-    let mut bounds = vec![0];
-    for i in 1..n {
-        if (model[i - 1] - eq).signum() != (model[i] - eq).signum() && (model[i] - eq).abs() > 0.0 {
-            bounds.push(i);
-        }
-    }
-    let (mut measured, mut fitted) = (Vec::new(), Vec::new());
-    for w in bounds.windows(2) {
-        let (a, b) = (w[0], w[1]);
-        if b <= a + 2 || a == 0 {
-            // The first interval starts mid-swing (at the release), not at a crossing.
-            continue;
-        }
-        let pick = |v: &[f64]| {
-            (a..b).max_by(|&i, &j| (v[i] - eq).abs().total_cmp(&(v[j] - eq).abs())).unwrap_or(a)
-        };
-        let im = pick(run.angles);
-        let jm = pick(model);
-        measured.push((run.times[im], (run.angles[im] - eq).abs()));
-        fitted.push((run.times[jm], (model[jm] - eq).abs()));
-    }
-    (measured, fitted)
-}
-
-/// Upward zero crossings of deflection `v − eq`, linearly interpolated, at times `t`.
-fn upward_crossings(t: &[f64], v: &[f64], eq: f64) -> Vec<f64> {
-    let mut out = Vec::new();
-    for i in 1..t.len().min(v.len()) {
-        let (a, b) = (v[i - 1] - eq, v[i] - eq);
-        if a < 0.0 && b >= 0.0 {
-            out.push(t[i - 1] + (t[i] - t[i - 1]) * (-a) / (b - a));
-        }
-    }
-    out
-}
-
-/// Period against amplitude of a run: each full cycle between two upward crossings of the
-/// model, its duration and the mean of the half-cycle peaks inside it. The measured period uses
-/// the measured crossing nearest each model crossing (within an eighth of a period).
-/// Returns (measured, model) lists of (amplitude rad, period s).
-pub fn period_points(run: &RunView<'_>) -> (Points, Points) {
-    let eq = run.fit.equilibrium.value;
-    let model_up = upward_crossings(run.times, &run.fit.model_angle, eq);
-    let measured_up = upward_crossings(run.times, run.angles, eq);
-    let (_, peaks) = half_cycle_peaks(run);
-    let amp = |t0: f64, t1: f64| {
-        let inside: Vec<f64> =
-            peaks.iter().filter(|(t, _)| *t > t0 && *t < t1).map(|p| p.1).collect();
-        if inside.is_empty() {
-            None
-        } else {
-            Some(inside.iter().sum::<f64>() / inside.len() as f64)
-        }
-    };
-    let nearest = |tc: f64, tol: f64| {
-        measured_up
-            .iter()
-            .copied()
-            .filter(|m| (m - tc).abs() <= tol)
-            .min_by(|a, b| (a - tc).abs().total_cmp(&(b - tc).abs()))
-    };
-    let (mut measured, mut model) = (Vec::new(), Vec::new());
-    for w in model_up.windows(2) {
-        let (t0, t1) = (w[0], w[1]);
-        let Some(a) = amp(t0, t1) else { continue };
-        model.push((a, t1 - t0));
-        let tol = (t1 - t0) / 8.0;
-        if let (Some(m0), Some(m1)) = (nearest(t0, tol), nearest(t1, tol)) {
-            measured.push((a, m1 - m0));
-        }
-    }
-    (measured, model)
-}
-
 /// Measured angular velocity by central differences over ±k samples, with k chosen so the span
 /// is about a fortieth of a period (keeps encoder steps from dominating, bias below 0.5 %).
 pub fn finite_difference_velocity(t: &[f64], v: &[f64], period: f64) -> Vec<(f64, f64)> {
@@ -250,7 +237,8 @@ pub fn finite_difference_velocity(t: &[f64], v: &[f64], period: f64) -> Vec<(f64
     (k..n - k).map(|i| (t[i], (v[i + k] - v[i - k]) / (t[i + k] - t[i - k]))).collect()
 }
 
-fn time_series(t: &[f64], v: &[f64], scale: f64, range: (f64, f64)) -> Vec<(f64, f64)> {
+/// `(t, v·scale)` over the time `range`, decimated for drawing.
+pub(crate) fn time_series(t: &[f64], v: &[f64], scale: f64, range: (f64, f64)) -> Vec<(f64, f64)> {
     let pts: Vec<(f64, f64)> = t
         .iter()
         .zip(v)
@@ -272,13 +260,14 @@ pub enum Window {
 }
 
 /// Small-amplitude period of the fitted model [s].
-fn period_of(omega_n: f64) -> f64 {
+pub(crate) fn period_of(omega_n: f64) -> f64 {
     2.0 * std::f64::consts::PI / omega_n
 }
 
-/// Measured angle with the fitted model, in degrees, over the chosen window.
+/// Measured angle with the fitted model, in degrees from the fitted equilibrium, over the chosen
+/// window.
 pub fn overlay(run: &RunView<'_>, omega_n: f64, window: Window, stem: &str) -> Chart {
-    let t = run.times;
+    let t = run.times();
     let (t0, t1) = (t.first().copied().unwrap_or(0.0), t.last().copied().unwrap_or(0.0));
     let period = period_of(omega_n);
     let (range, what) = match window {
@@ -290,7 +279,6 @@ pub fn overlay(run: &RunView<'_>, omega_n: f64, window: Window, stem: &str) -> C
             (((end - 3.0 * period).max(t0), end), "last three cycles of motion")
         }
     };
-    let deg = 180.0 / std::f64::consts::PI;
     // Angles are shown from the fitted equilibrium, so an encoder run reads as a swing about
     // zero, not in the encoder's raw frame.
     let eq = run.fit.equilibrium.value;
@@ -301,162 +289,39 @@ pub fn overlay(run: &RunView<'_>, omega_n: f64, window: Window, stem: &str) -> C
         x_label: "time [s]".into(),
         y_label: "angle from rest [deg]".into(),
         series: vec![
-            Series {
-                label: "measured".into(),
-                points: time_series(t, &from_rest(run.angles), deg, range),
-                mark: Mark::Line,
-            },
-            Series {
-                label: "fitted model".into(),
-                points: time_series(t, &from_rest(&run.fit.model_angle), deg, range),
-                mark: Mark::Line,
-            },
-        ],
-    }
-}
-
-/// Residuals model − measured against time of one run, in millidegrees, in its own panel (each
-/// run on its own scale, so structure in either can be seen).
-pub fn residuals(run: &RunView<'_>, stem: &str) -> Chart {
-    let mdeg = 180.0e3 / std::f64::consts::PI;
-    Chart {
-        stem: stem.to_string(),
-        title: format!("{}: residuals (model minus measured)", run.name),
-        x_label: "time [s]".into(),
-        y_label: "residual [mdeg]".into(),
-        series: vec![Series {
-            label: "residual".into(),
-            points: time_series(
-                run.times,
-                &run.fit.residuals,
-                mdeg,
-                (f64::NEG_INFINITY, f64::INFINITY),
+            Series::new(
+                "measured",
+                time_series(t, &from_rest(run.angles()), DEG, range),
+                Mark::Line,
+                Role::Measured,
             ),
-            mark: Mark::Line,
-        }],
-    }
-}
-
-/// Half-cycle peak amplitude of run `k` against time: measured peaks (dots) and the model of the
-/// fit, or of every converged candidate of a comparison (lines, best first), one chart per run so
-/// the candidates can be told apart.
-pub fn envelope(r: &RunView<'_>, k: usize, comparison: Option<&Comparison>, stem: &str) -> Chart {
-    let deg = 180.0 / std::f64::consts::PI;
-    let mut series = Vec::new();
-    let (measured, model) = half_cycle_peaks(r);
-    let measured: Vec<(f64, f64)> = match comparison.and_then(|c| c.measured_peaks.get(k)) {
-        Some(p) if !p.is_empty() => p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect(),
-        _ => measured.iter().map(|(t, a)| (*t, a * deg)).collect(),
-    };
-    series.push(Series {
-        label: "measured peaks".into(),
-        points: thin(&measured, MAX_PARAMETRIC),
-        mark: Mark::Dots,
-    });
-    match comparison {
-        Some(c) => {
-            for cand in c.candidates.iter().filter(|c| c.fit.is_ok()) {
-                if let Some(p) = cand.model_peaks.get(k)
-                    && !p.is_empty()
-                {
-                    let pts: Vec<(f64, f64)> =
-                        p.iter().map(|p| (p.t, p.deflection.abs() * deg)).collect();
-                    let best = c.best == Some(cand.damping);
-                    series.push(Series {
-                        label: format!(
-                            "model {}{}",
-                            cand.damping,
-                            if best { " (chosen)" } else { "" }
-                        ),
-                        points: thin(&pts, MAX_PARAMETRIC),
-                        mark: Mark::Line,
-                    });
-                }
-            }
-        }
-        None => {
-            let pts: Vec<(f64, f64)> = model.iter().map(|(t, a)| (*t, a * deg)).collect();
-            series.push(Series {
-                label: "fitted model".into(),
-                points: thin(&pts, MAX_PARAMETRIC),
-                mark: Mark::Line,
-            });
-        }
-    }
-    Chart {
-        stem: stem.to_string(),
-        title: format!("{}: decay envelope, peak amplitude of each half cycle", r.name),
-        x_label: "time [s]".into(),
-        y_label: "peak amplitude [deg]".into(),
-        series,
-    }
-}
-
-/// Period against amplitude: measured cycles (dots) and the model curve.
-pub fn period_amplitude(
-    runs: &[RunView<'_>],
-    comparison: Option<&Comparison>,
-    stem: &str,
-) -> Chart {
-    let deg = 180.0 / std::f64::consts::PI;
-    let mut measured = Vec::new();
-    let mut model = Vec::new();
-    for (k, r) in runs.iter().enumerate() {
-        let (m, f) = period_points(r);
-        match comparison.and_then(|c| c.period_points.get(k)) {
-            Some(p) if !p.is_empty() => {
-                measured.extend(p.iter().map(|p| (p.amplitude * deg, p.period)))
-            }
-            _ => measured.extend(m.iter().map(|(a, p)| (a * deg, *p))),
-        }
-        model.extend(f.iter().map(|(a, p)| (a * deg, *p)));
-    }
-    let mut curve: Vec<(f64, f64)> = match comparison {
-        Some(c) if !c.period_curve.is_empty() => {
-            c.period_curve.iter().map(|(a, p)| (a * deg, *p)).collect()
-        }
-        _ => model,
-    };
-    curve.sort_by(|a, b| a.0.total_cmp(&b.0));
-    Chart {
-        stem: stem.to_string(),
-        title: "Period against amplitude".into(),
-        x_label: "amplitude [deg]".into(),
-        y_label: "period [s]".into(),
-        series: vec![
-            Series {
-                label: "measured cycles".into(),
-                points: thin(&measured, MAX_PARAMETRIC),
-                mark: Mark::Dots,
-            },
-            Series {
-                label: "fitted model".into(),
-                points: thin(&curve, MAX_PARAMETRIC),
-                mark: Mark::Line,
-            },
+            Series::new(
+                "fitted model",
+                time_series(t, &from_rest(&run.fit.model_angle), DEG, range),
+                Mark::Line,
+                Role::Model,
+            ),
         ],
+        below: Vec::new(),
     }
 }
 
 /// Phase portrait: angular velocity against angle (deflection from rest), measured velocity by
 /// finite differences and the model's.
 pub fn phase_portrait(run: &RunView<'_>, omega_n: f64, stem: &str) -> Chart {
-    let deg = 180.0 / std::f64::consts::PI;
     let eq = run.fit.equilibrium.value;
-    let vel = finite_difference_velocity(run.times, run.angles, period_of(omega_n));
-    let n = run.times.len().min(run.angles.len());
+    let angles = run.angles();
+    let vel = finite_difference_velocity(run.times(), angles, period_of(omega_n));
+    let n = run.times().len().min(angles.len());
     let k = n.saturating_sub(vel.len()) / 2;
-    let measured: Vec<(f64, f64)> = vel
-        .iter()
-        .enumerate()
-        .map(|(i, (_, w))| ((run.angles[i + k] - eq) * deg, w * deg))
-        .collect();
+    let measured: Vec<(f64, f64)> =
+        vel.iter().enumerate().map(|(i, (_, w))| ((angles[i + k] - eq) * DEG, w * DEG)).collect();
     let model: Vec<(f64, f64)> = run
         .fit
         .model_angle
         .iter()
         .zip(&run.fit.model_velocity)
-        .map(|(a, w)| ((a - eq) * deg, w * deg))
+        .map(|(a, w)| ((a - eq) * DEG, w * DEG))
         .collect();
     Chart {
         stem: stem.to_string(),
@@ -464,157 +329,21 @@ pub fn phase_portrait(run: &RunView<'_>, omega_n: f64, stem: &str) -> Chart {
         x_label: "angle from rest [deg]".into(),
         y_label: "angular velocity [deg/s]".into(),
         series: vec![
-            Series {
-                label: "measured (finite differences)".into(),
-                points: thin(&measured, MAX_PARAMETRIC),
-                mark: Mark::Line,
-            },
-            Series {
-                label: "fitted model".into(),
-                points: thin(&model, MAX_PARAMETRIC),
-                mark: Mark::Line,
-            },
+            Series::new(
+                "measured (finite differences)",
+                thin(&measured, MAX_PARAMETRIC),
+                Mark::Line,
+                Role::Measured,
+            ),
+            Series::new("fitted model", thin(&model, MAX_PARAMETRIC), Mark::Line, Role::Model),
         ],
+        below: Vec::new(),
     }
-}
-
-/// Colours of the series in order: measured in dark grey, models in strong colours.
-/// Colour of the measured series: near black, drawn on top.
-const MEASURED: RGBColor = RGBColor(25, 25, 25);
-/// Colour of a single model line: a light red, wide, under the data.
-const MODEL: RGBColor = RGBColor(244, 150, 150);
-/// Colours of rejected candidates: pale, so the chosen model stands out.
-const MUTED: [RGBColor; 3] =
-    [RGBColor(170, 190, 215), RGBColor(185, 210, 180), RGBColor(205, 190, 215)];
-
-const PALETTE: [RGBColor; 8] = [
-    RGBColor(90, 90, 90),
-    RGBColor(214, 39, 40),
-    RGBColor(31, 119, 180),
-    RGBColor(44, 160, 44),
-    RGBColor(148, 103, 189),
-    RGBColor(255, 127, 14),
-    RGBColor(23, 190, 207),
-    RGBColor(140, 86, 75),
-];
-
-fn bounds(chart: &Chart, pick: impl Fn(&(f64, f64)) -> f64) -> (f64, f64) {
-    let (lo, hi) = chart
-        .series
-        .iter()
-        .flat_map(|s| s.points.iter())
-        .map(pick)
-        .filter(|v| v.is_finite())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), v| (l.min(v), h.max(v)));
-    if !lo.is_finite() {
-        return (0.0, 1.0);
-    }
-    let span = hi - lo;
-    let pad = if span > 0.0 { 0.04 * span } else { lo.abs().max(1.0) * 0.05 };
-    (lo - pad, hi + pad)
-}
-
-fn draw<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, chart: &Chart) -> Result<(), String>
-where
-    DB::ErrorType: 'static,
-{
-    let e = |e: DrawingAreaErrorKind<DB::ErrorType>| e.to_string();
-    root.fill(&WHITE).map_err(e)?;
-    let (x0, x1) = bounds(chart, |p| p.0);
-    let (y0, y1) = bounds(chart, |p| p.1);
-    let mut cc = ChartBuilder::on(&root)
-        .caption(&chart.title, ("sans-serif", 30))
-        .margin(14)
-        .margin_right(40)
-        .x_label_area_size(70)
-        .y_label_area_size(110)
-        .build_cartesian_2d(x0..x1, y0..y1)
-        .map_err(e)?;
-    cc.configure_mesh()
-        .x_desc(&chart.x_label)
-        .y_desc(&chart.y_label)
-        .label_style(("sans-serif", 22))
-        .axis_desc_style(("sans-serif", 24))
-        .light_line_style(RGBColor(235, 235, 235))
-        .draw()
-        .map_err(e)?;
-    // Measured series (the first, or any labelled "measured") are drawn last, dark and thin, so
-    // the data lie visibly over the lighter, wider model lines; in a comparison (one model
-    // labelled "(chosen)") the chosen model is drawn strong and the rejected ones muted.
-    let measured = |i: usize, s: &Series| i == 0 || s.label.contains("measured");
-    let candidates = chart.series.iter().any(|s| s.label.contains("(chosen)"));
-    let (data, models): (Vec<usize>, Vec<usize>) =
-        (0..chart.series.len()).partition(|&i| measured(i, &chart.series[i]));
-    for (rank, i) in models.iter().chain(&data).copied().enumerate() {
-        let s = &chart.series[i];
-        let chosen = s.label.contains("(chosen)");
-        let (color, width) = if measured(i, s) {
-            (MEASURED, 1)
-        } else if candidates && !chosen {
-            (MUTED[rank % MUTED.len()], 1)
-        } else if candidates {
-            (PALETTE[1], 3)
-        } else {
-            (MODEL, 4)
-        };
-        let pts = s.points.iter().copied().filter(|(x, y)| x.is_finite() && y.is_finite());
-        let anno = match s.mark {
-            Mark::Line => {
-                cc.draw_series(LineSeries::new(pts, color.stroke_width(width))).map_err(e)?
-            }
-            Mark::Dots => {
-                let r = if measured(i, s) { 3 } else { 2 };
-                cc.draw_series(pts.map(move |p| Circle::new(p, r, color.filled()))).map_err(e)?
-            }
-        };
-        anno.label(&s.label).legend(move |(x, y)| {
-            PathElement::new(vec![(x, y), (x + 24, y)], color.stroke_width(3))
-        });
-    }
-    cc.configure_series_labels()
-        .label_font(("sans-serif", 22))
-        .background_style(WHITE.mix(0.85))
-        .border_style(RGBColor(160, 160, 160))
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()
-        .map_err(e)?;
-    root.present().map_err(e)?;
-    Ok(())
-}
-
-static FONT: Once = Once::new();
-
-/// Register the embedded Noto Sans as "sans-serif" (once per process): the bitmap backend draws
-/// glyphs with it and both backends measure text with it to lay out labels and legends.
-fn register_font() {
-    FONT.call_once(|| {
-        // Noto Sans Regular is a valid TrueType font shipped inside ttf-noto-sans; a failure here
-        // would surface as a drawing error below, never as a panic.
-        let _ =
-            plotters::style::register_font("sans-serif", FontStyle::Normal, ttf_noto_sans::REGULAR);
-    });
-}
-
-/// Draw `chart` as an SVG document.
-pub fn render_svg(chart: &Chart) -> Result<String, PlotError> {
-    register_font();
-    let mut out = String::new();
-    {
-        let root = SVGBackend::with_string(&mut out, (WIDTH, HEIGHT)).into_drawing_area();
-        draw(root, chart).map_err(|what| PlotError { stem: chart.stem.clone(), what })?;
-    }
-    Ok(out)
-}
-
-/// Draw `chart` as a PNG file at `path` (the file name must end in `.png`).
-pub fn render_png(chart: &Chart, path: &Path) -> Result<(), PlotError> {
-    register_font();
-    let root = BitMapBackend::new(path, (WIDTH, HEIGHT)).into_drawing_area();
-    draw(root, chart).map_err(|what| PlotError { stem: chart.stem.clone(), what })
 }
 
 /// Every chart of a sheet: per run the overlays (whole, first, last cycles), the phase portrait,
-/// the decay envelope and the residuals; then period against amplitude.
+/// the decay envelope and the residuals with their histogram and autocorrelation; then period
+/// against amplitude.
 pub fn sheet_charts(
     runs: &[RunView<'_>],
     omega_n: f64,
@@ -628,7 +357,7 @@ pub fn sheet_charts(
         charts.push(overlay(r, omega_n, Window::Last, &format!("run{n}_last_cycles")));
         charts.push(phase_portrait(r, omega_n, &format!("run{n}_phase")));
         charts.push(envelope(r, k, comparison, &format!("run{n}_envelope")));
-        charts.push(residuals(r, &format!("run{n}_residuals")));
+        charts.push(residuals(r, omega_n, &format!("run{n}_residuals")));
     }
     charts.push(period_amplitude(runs, comparison, "period_amplitude"));
     charts
@@ -649,8 +378,9 @@ pub fn fit_overlay(runs: &[RunView<'_>], omega_n: f64, stem: &str) -> Chart {
         stem: stem.to_string(),
         title: "Measured angle and fitted model, whole records".into(),
         x_label: "time [s]".into(),
-        y_label: "angle [deg]".into(),
+        y_label: "angle from rest [deg]".into(),
         series,
+        below: Vec::new(),
     }
 }
 

@@ -11,6 +11,7 @@ use std::time::{Duration, UNIX_EPOCH};
 use approx::assert_relative_eq;
 use nalgebra::{DMatrix, DVector};
 use swingfit::article::{self, DampingChoice};
+use swingfit::data::AngleLog;
 use swingfit::fit::adequacy::{Adequacy, AdequacyReport};
 use swingfit::fit::compare::{
     CandidateEvidence, Comparison, EnvelopeFits, EnvelopeLaw, PeriodPoint,
@@ -32,7 +33,7 @@ const EQ: f64 = 0.01;
 /// `secs`; "measured" adds a deterministic ±20 µrad ripple.
 struct Synthetic {
     times: Vec<f64>,
-    measured: Vec<f64>,
+    log: AngleLog,
     fit: RunFit,
 }
 
@@ -73,7 +74,9 @@ fn synthetic(secs: f64, amp: f64) -> Synthetic {
         model_angle: model,
         model_velocity: velocity,
     };
-    Synthetic { times, measured, fit }
+    let log = AngleLog::from_samples("synthetic.csv", times.clone(), measured.clone())
+        .expect("synthetic log");
+    Synthetic { times, log, fit }
 }
 
 fn outcome(runs: Vec<RunFit>) -> FitOutcome {
@@ -227,7 +230,7 @@ fn decimation_bounds_points_and_keeps_extremes() {
 #[test]
 fn half_cycle_peaks_follow_the_viscous_envelope() {
     let s = synthetic(20.0, 0.5);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &s.fit };
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
     let (measured, model) = plot::half_cycle_peaks(&run);
     // About 2 half cycles per period over 20 s at ωd ≈ 6.5 rad/s: 41 boundaries, first dropped.
     assert!((38..=42).contains(&model.len()), "{} peaks", model.len());
@@ -246,7 +249,7 @@ fn half_cycle_peaks_follow_the_viscous_envelope() {
 #[test]
 fn period_points_recover_the_damped_period() {
     let s = synthetic(20.0, 0.5);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &s.fit };
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
     let (measured, model) = plot::period_points(&run);
     assert!(model.len() >= 18, "{} cycles", model.len());
     let td = 2.0 * PI / omega_d();
@@ -256,6 +259,103 @@ fn period_points_recover_the_damped_period() {
     }
     // Amplitudes shrink cycle after cycle.
     assert!(model.windows(2).all(|w| w[1].0 < w[0].0));
+}
+
+#[test]
+fn residual_figure_has_a_density_histogram_and_the_white_noise_band() {
+    let s = synthetic(20.0, 0.5);
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
+    let chart = plot::residuals(&run, OMEGA_N, "res");
+    assert_eq!(chart.below.len(), 2);
+    let (hist, acf) = (&chart.below[0], &chart.below[1]);
+    // The bars are a probability density: their area is the share of residuals inside the
+    // histogram range, here all of them (the ±20 µrad ripple lies inside ±4 σ).
+    let bars = &hist.series[0];
+    assert_eq!(bars.mark, plot::Mark::Bars);
+    assert_eq!(bars.points.len(), plot::residual::BINS);
+    let w = bars.points[1].0 - bars.points[0].0;
+    let area: f64 = bars.points.iter().map(|p| p.1 * w).sum();
+    assert_relative_eq!(area, 1.0, max_relative = 1e-9);
+    // The Gaussian over it has the noise floor's σ: its peak is 1/(σ√(2π)) [mdeg⁻¹].
+    let sigma = s.fit.noise_floor * 180.0e3 / PI;
+    let peak = hist.series[1].points.iter().fold(0.0_f64, |m, p| m.max(p.1));
+    assert_relative_eq!(peak, 1.0 / (sigma * (2.0 * PI).sqrt()), max_relative = 1e-3);
+    // Autocorrelation of the ripple 2e-5·sin(0.7 i): r_k ≈ cos(0.7 k) (a sinusoid's sample
+    // autocorrelation, shrunk by (n − k)/n), and the band is ±1.96/√N.
+    let r = &acf.series[0].points;
+    let n = s.fit.residuals.len() as f64;
+    for k in [1usize, 2, 5] {
+        let expect = (0.7 * k as f64).cos() * (n - k as f64) / n;
+        assert!((r[k - 1].1 - expect).abs() < 2e-3, "r_{k} = {} against {expect}", r[k - 1].1);
+    }
+    assert_relative_eq!(acf.series[1].points[0].1, 1.96 / n.sqrt(), max_relative = 1e-12);
+    // Lags cover one small-amplitude period.
+    let last_lag = r.last().map(|p| p.0).unwrap_or(0.0);
+    assert_relative_eq!(last_lag, 2.0 * PI / OMEGA_N, epsilon = 1e-3);
+    plot::render_svg(&chart).expect("composite figure draws");
+}
+
+/// A viscous decay from 0.3 rad down to below a milliradian with Gaussian noise of 0.2 mrad
+/// (seeded), fitted exactly: the period plot keeps only the cycles the noise lets it resolve.
+#[test]
+fn period_plot_drops_unresolved_cycles_and_bars_the_rest() {
+    use rand::SeedableRng;
+    use rand_distr::{Distribution, Normal};
+    let (b1, amp, noise) = (0.2, 0.3, 2e-4);
+    let (sig, wd) = (0.5 * b1, (OMEGA_N * OMEGA_N - 0.25 * b1 * b1).sqrt());
+    let mut rng = rand::rngs::StdRng::seed_from_u64(15);
+    let normal = Normal::new(0.0, noise).expect("normal");
+    let times: Vec<f64> = (0..60_000).map(|i| i as f64 * 1e-3).collect();
+    let model: Vec<f64> = times.iter().map(|&t| amp * (-sig * t).exp() * (wd * t).cos()).collect();
+    let measured: Vec<f64> = model.iter().map(|m| m + normal.sample(&mut rng)).collect();
+    let mut fit = synthetic(5.0, 0.5).fit;
+    fit.equilibrium.value = 0.0;
+    fit.residuals = model.iter().zip(&measured).map(|(m, y)| m - y).collect();
+    fit.model_angle = model;
+    fit.samples = times.len();
+    let log = AngleLog::from_samples("noisy.csv", times, measured).expect("log");
+    let run = RunView { name: "noisy", log: &log, fit: &fit };
+    let cycles = plot::period_cycles(&run);
+    // A_min = band/(2π · 0.5 %) with band = 5 noise σ: about 32 mrad for σ = 0.2 mrad.
+    assert_relative_eq!(cycles.limit, 5.0 * noise / (2.0 * PI * 0.005), max_relative = 0.15);
+    assert!(cycles.dropped > 5, "{} dropped", cycles.dropped);
+    assert!(cycles.kept.len() > 15, "{} kept", cycles.kept.len());
+    assert!(cycles.kept.iter().all(|c| c.amplitude >= cycles.limit));
+    // The log is a linear damped oscillation, so every cycle lasts 2π/ωd exactly: each kept
+    // period lies within 3u of it, and about 95 % (here at least 80 %) within the ±2u bars.
+    let td = 2.0 * PI / wd;
+    let mut inside = 0;
+    for c in &cycles.kept {
+        let err = (c.period - td).abs();
+        assert!(err < 3.0 * c.u + 1e-4, "T = {} at A = {}: u = {}", c.period, c.amplitude, c.u);
+        if err <= 2.0 * c.u {
+            inside += 1;
+        }
+    }
+    assert!(inside as f64 >= 0.8 * cycles.kept.len() as f64, "{inside} of {}", cycles.kept.len());
+    let chart = plot::period_amplitude(&[run], None, "period");
+    assert_eq!(chart.series[0].y_err.len(), chart.series[0].points.len());
+    assert!(chart.title.contains("not resolved"), "{}", chart.title);
+}
+
+#[test]
+fn envelope_legend_names_the_chosen_model_and_one_entry_for_the_others() {
+    let s = synthetic(20.0, 0.5);
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
+    let mut cmp = comparison(&run);
+    // A second converged candidate, rejected.
+    let mut other = cmp.candidates[0].clone();
+    other.damping = DampingSet::from_terms(&[Term::Quadratic]);
+    cmp.candidates.push(other.clone());
+    other.damping = DampingSet::from_terms(&[Term::Viscous, Term::Quadratic]);
+    cmp.candidates.push(other);
+    let chart = plot::envelope(&run, 0, Some(&cmp), "env");
+    let labels: Vec<&str> =
+        chart.series.iter().map(|s| s.label.as_str()).filter(|l| !l.is_empty()).collect();
+    assert_eq!(labels, vec!["measured peaks", "model viscous (chosen)", "other candidates"]);
+    let roles: Vec<plot::Role> = chart.series.iter().map(|s| s.role).collect();
+    assert_eq!(roles.iter().filter(|r| **r == plot::Role::Other).count(), 2);
+    assert_eq!(roles.iter().filter(|r| **r == plot::Role::Chosen).count(), 1);
 }
 
 #[test]
@@ -274,7 +374,7 @@ fn finite_difference_velocity_matches_the_derivative() {
 #[test]
 fn overlay_windows_cover_first_and_last_cycles() {
     let s = synthetic(30.0, 0.5);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &s.fit };
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
     let whole = plot::overlay(&run, OMEGA_N, Window::Whole, "w");
     assert!(whole.series.iter().all(|x| x.points.len() <= 2 * plot::COLUMNS));
     let first = plot::overlay(&run, OMEGA_N, Window::First, "f");
@@ -298,7 +398,7 @@ fn overlay_windows_cover_first_and_last_cycles() {
 #[test]
 fn charts_render_as_svg_and_png() {
     let s = synthetic(10.0, 0.5);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &s.fit };
+    let run = RunView { name: "r", log: &s.log, fit: &s.fit };
     let chart = plot::phase_portrait(&run, OMEGA_N, "phase");
     let svg = plot::render_svg(&chart).expect("svg");
     assert!(svg.contains("angular velocity [deg/s]") && svg.contains("angle from rest [deg]"));
@@ -382,8 +482,7 @@ fn files(dir: &Path) -> Vec<String> {
 fn sheet_holds_every_number_and_plot() {
     let s = synthetic(20.0, 0.5);
     let fit = outcome(vec![s.fit.clone()]);
-    let run =
-        RunView { name: "release 30 deg", times: &s.times, angles: &s.measured, fit: &fit.runs[0] };
+    let run = RunView { name: "release 30 deg", log: &s.log, fit: &fit.runs[0] };
     let cmp = comparison(&run);
     let phys = physical();
     let dir = tmp();
@@ -471,7 +570,7 @@ fn sheet_holds_every_number_and_plot() {
 fn existing_sheet_is_kept_without_force_and_replaced_with_it() {
     let s = synthetic(8.0, 0.3);
     let fit = outcome(vec![s.fit.clone()]);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &fit.runs[0] };
+    let run = RunView { name: "r", log: &s.log, fit: &fit.runs[0] };
     let dir = tmp();
     let out = dir.path().join("sheet");
     std::fs::create_dir(&out).expect("mkdir");
@@ -501,7 +600,7 @@ fn existing_sheet_is_kept_without_force_and_replaced_with_it() {
 fn failed_sheet_leaves_nothing() {
     let s = synthetic(8.0, 0.3);
     let fit = outcome(vec![s.fit.clone()]);
-    let run = RunView { name: "r", times: &s.times, angles: &s.measured, fit: &fit.runs[0] };
+    let run = RunView { name: "r", log: &s.log, fit: &fit.runs[0] };
     let dir = tmp();
     std::fs::write(dir.path().join("blocker"), "a file, not a directory").expect("file");
     let out = dir.path().join("blocker").join("sheet");
@@ -603,8 +702,7 @@ fn missing_log_names_its_line() {
 fn sheet_renders_in_headless_chromium() {
     let s = synthetic(20.0, 0.5);
     let fit = outcome(vec![s.fit.clone()]);
-    let run =
-        RunView { name: "release 30 deg", times: &s.times, angles: &s.measured, fit: &fit.runs[0] };
+    let run = RunView { name: "release 30 deg", log: &s.log, fit: &fit.runs[0] };
     let cmp = comparison(&run);
     let phys = physical();
     let dir = tmp();

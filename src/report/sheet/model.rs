@@ -213,7 +213,7 @@ fn physical_quantity(t: crate::model::Term) -> &'static str {
 }
 
 fn duration(r: &RunView<'_>) -> f64 {
-    match (r.times.first(), r.times.last()) {
+    match (r.times().first(), r.times().last()) {
         (Some(a), Some(b)) => b - a,
         _ => 0.0,
     }
