@@ -8,6 +8,10 @@
 //! of 95 % falls below 88 % with probability under 1 %, binomial), and no fit may be called
 //! `not_explained` or blamed on the article. Kept small (2 × 80 fits of 2000 samples) so the
 //! suite stays fast.
+//!
+//! Then the friction refinements (docs/friction.md): coverage of the pre-sliding fit's
+//! intervals over 120 short logs, and no pre-sliding or Stribeck set chosen by `compare` on 50
+//! pure viscous and 50 pure Coulomb logs.
 
 use rand::rngs::StdRng;
 use rand::{Rng, SeedableRng};
@@ -102,4 +106,109 @@ fn hac_intervals_cover_the_truth_under_ar1_noise() {
 fn hac_intervals_cover_the_truth_under_a_drifting_sensor() {
     let c = coverage(Noise::Drift);
     assert!(c.iter().all(|&v| v >= 0.88), "coverage of omega_n, b1, b0: {c:?}");
+}
+
+// ---------------------------------------------------------------------------------------------
+// Pre-sliding friction (docs/friction.md): Monte-Carlo coverage of its intervals, and no false
+// positives of the friction refinements on plain logs.
+
+/// Realisations of the pre-sliding coverage study.
+const PS_REPS: usize = 120;
+
+/// A short viscous + Coulomb + pre-sliding log (ωn 5 rad/s, b1 0.02 1/s, b0 0.05 rad/s²,
+/// σ 8 1/s², spring range b0/σ = 6.25e-3 rad): released at 0.05 rad, it slides for about ten
+/// half-cycles and then swings inside the spring range; 10 s at 100 Hz, white noise 3e-5 rad.
+fn presliding_log(seed: u64) -> AngleLog {
+    let truth = physics(5.0, 0.02, 0.05, 0.0).with_coef(Term::Presliding, 8.0);
+    Case {
+        physics: truth,
+        release: release(0.003, 0.05),
+        times: uniform(10.0, 100.0),
+        noise_rad: 3e-5,
+        counts_per_rev: None,
+        seed,
+    }
+    .log("presliding_coverage.csv")
+}
+
+#[test]
+fn presliding_intervals_cover_the_truth_at_the_nominal_rate() {
+    // 120 seeded logs, each fitted with the true set. With a true coverage of 95 % the number
+    // of hits X ~ Binomial(120, 0.95) lies in the band 106 ≤ X ≤ 119 with probability 0.997
+    // (P(X ≤ 105) = 0.0010, P(X = 120) = 0.0021; scipy.stats.binom): below it the intervals are
+    // too narrow, at 120 of 120 suspiciously wide. Checked for ωn, b1, b0 and σ separately.
+    let set = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb, Term::Presliding]);
+    let options = FitOptions { damping: set, ..FitOptions::default() };
+    let truth = [(None, 5.0), (Some(Term::Viscous), 0.02), (Some(Term::Coulomb), 0.05)];
+    let mut hits = [0usize; 4];
+    let mut failed = Vec::new();
+    for i in 0..PS_REPS {
+        let f = match fit(&[presliding_log(5000 + i as u64)], &options) {
+            Ok(f) => f,
+            Err(e) => {
+                // Counted as a miss of every interval (a fit that gives no interval covers
+                // nothing), and at most two are tolerated.
+                failed.push(format!("{i}: {e}"));
+                continue;
+            }
+        };
+        let inside = |e: &swingfit::fit::Estimate, v: f64| e.ci95.0 <= v && v <= e.ci95.1;
+        for (k, (t, v)) in truth.iter().enumerate() {
+            let e = match t {
+                None => &f.omega_n,
+                Some(t) => f.term(*t).expect("fitted"),
+            };
+            hits[k] += inside(e, *v) as usize;
+        }
+        hits[3] += inside(f.term(Term::Presliding).expect("sigma"), 8.0) as usize;
+    }
+    assert!(failed.len() <= 2, "{} of {PS_REPS} fits failed: {failed:?}", failed.len());
+    for (name, h) in ["omega_n", "b1", "b0", "sigma"].iter().zip(hits) {
+        assert!(
+            (106..=119).contains(&h),
+            "{name}: {h} of {PS_REPS} intervals hold the truth ({} fits failed)",
+            failed.len()
+        );
+    }
+}
+
+/// Realisations of each plain log in the false-positive study.
+const FP_REPS: usize = 50;
+
+fn plain_log(b1: f64, b0: f64, seed: u64) -> AngleLog {
+    Case {
+        physics: physics(4.0, b1, b0, 0.0),
+        release: release(0.01, 0.3),
+        times: uniform(16.0, 50.0),
+        noise_rad: 3e-4,
+        counts_per_rev: None,
+        seed,
+    }
+    .log("plain.csv")
+}
+
+fn refinements_chosen(make: impl Fn(u64) -> AngleLog, seed0: u64) -> Vec<(u64, String)> {
+    use swingfit::fit::compare::{CompareOptions, compare};
+    let mut wrong = Vec::new();
+    for i in 0..FP_REPS as u64 {
+        let c = compare(&[make(seed0 + i)], &CompareOptions::default());
+        let chosen = c.selected().map(|f| f.damping);
+        if chosen.is_some_and(|d| d.contains(Term::Presliding) || d.contains(Term::Stribeck)) {
+            wrong.push((seed0 + i, chosen.map(|d| d.to_string()).unwrap_or_default()));
+        }
+    }
+    wrong
+}
+
+#[test]
+fn presliding_and_stribeck_are_not_chosen_on_pure_viscous_logs() {
+    // 50 realisations, compare over every default candidate (fifteen sets).
+    let wrong = refinements_chosen(|s| plain_log(0.05, 0.0, s), 7000);
+    assert!(wrong.is_empty(), "chosen on pure viscous logs: {wrong:?}");
+}
+
+#[test]
+fn presliding_and_stribeck_are_not_chosen_on_pure_coulomb_logs() {
+    let wrong = refinements_chosen(|s| plain_log(0.0, 0.03, s), 8000);
+    assert!(wrong.is_empty(), "chosen on pure Coulomb logs: {wrong:?}");
 }
