@@ -13,7 +13,7 @@
 //!   byte-identical at any `threads` setting.
 //!
 //! The rows are written by `report::wire::batch` (`summary.jsonl`, `summary.csv`; schema
-//! `swingfit.batch.v1`, docs/schemas.md).
+//! `swingfit.batch.v2`, docs/schemas.md).
 
 use std::path::{Path, PathBuf};
 

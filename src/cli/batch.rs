@@ -75,11 +75,12 @@ pub fn run(args: &BatchArgs) -> CmdResult {
 
     let csv_path = args.out.join("summary.csv");
     let jsonl_path = args.out.join("summary.jsonl");
+    let docs: Vec<wire::batch::BatchRowDoc> = rows.iter().map(wire::batch::row_doc).collect();
     let (columns, physical) =
-        wire::batch::summary_columns(&rows, settings.fit.damping, settings.article.is_some());
+        wire::batch::summary_columns(&docs, settings.fit.damping, settings.article.is_some());
     for (path, text) in [
-        (&csv_path, wire::batch::summary_csv(&rows, columns, physical)),
-        (&jsonl_path, wire::batch::summary_jsonl(&rows)),
+        (&csv_path, wire::batch::summary_csv(&docs, columns, physical)),
+        (&jsonl_path, wire::batch::summary_jsonl(&docs)),
     ] {
         atomic::write_atomic(path, text.as_bytes())
             .map_err(|e| Failure::input(format!("{}: cannot write: {e}", path.display())))?;

@@ -31,7 +31,7 @@ pub struct CompareArgs {
     /// (default: all seven non-empty subsets of viscous, coulomb, quadratic).
     #[arg(long, value_name = "SETS")]
     pub candidates: Option<String>,
-    /// Write the comparison as JSON (schema swingfit.compare.v1) to FILE.
+    /// Write the comparison as JSON (schema swingfit.compare.v2) to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
 }

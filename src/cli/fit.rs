@@ -1,5 +1,5 @@
 //! `swingfit fit LOG [LOG…]`: the main job. Fits the logs of one article jointly and prints the
-//! coefficient table; `--json FILE` writes the `swingfit.fit.v1` document.
+//! coefficient table; `--json FILE` writes the `swingfit.fit.v2` document.
 
 use std::path::PathBuf;
 
@@ -114,7 +114,7 @@ pub struct FitArgs {
     /// Mass properties and gravity.
     #[command(flatten)]
     pub article: ArticleArgs,
-    /// Write the fit as JSON (schema swingfit.fit.v1) to FILE.
+    /// Write the fit as JSON (schema swingfit.fit.v2) to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
     /// Draw the measured angle with the fitted model to FILE (.svg or .png).

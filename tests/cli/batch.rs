@@ -69,7 +69,7 @@ fn mixed_folder_fits_the_good_logs_and_records_each_bad_one() {
         let name = file_name(&r[col(&header, "file")]);
         let status = &r[col(&header, "status")];
         if name.starts_with("bad_") {
-            assert_eq!(status, "error", "{name}");
+            assert_eq!(status, "failed", "{name}");
             assert_eq!(r[col(&header, "error_kind")], "input", "{name}");
             let msg = &r[col(&header, "error")];
             assert!(msg.contains(&name), "{name}: message {msg:?} names the file");
@@ -145,7 +145,7 @@ fn listed_good_logs_exit_zero_and_jsonl_carries_every_coefficient() {
     assert_eq!(lines.len(), 2);
     let truth = truth();
     for (line, name) in lines.iter().zip(["hx2_a.csv", "hx2_c.csv"]) {
-        assert_eq!(line["schema"], "swingfit.batch.v1");
+        assert_eq!(line["schema"], "swingfit.batch.v2");
         assert_eq!(file_name(line["file"].as_str().expect("file")), name);
         assert_eq!(line["status"], "ok");
         assert!(line["error"].is_null());
@@ -185,7 +185,7 @@ fn a_log_at_rest_throughout_is_an_input_row_saying_so() {
     assert_eq!(file_name(&rows[0][col(&header, "file")]), "hx2_b.csv");
     assert_eq!(rows[0][col(&header, "status")], "ok");
     assert_eq!(file_name(&rows[1][col(&header, "file")]), "still.csv");
-    assert_eq!(rows[1][col(&header, "status")], "error");
+    assert_eq!(rows[1][col(&header, "status")], "failed");
     assert_eq!(rows[1][col(&header, "error_kind")], "input");
     assert!(rows[1][col(&header, "error")].contains("at rest for the whole log"));
 }
@@ -214,8 +214,10 @@ fn article_files_are_fitted_jointly_and_bad_ones_recorded() {
         |name: &str| rows.iter().find(|r| file_name(&r[col(&header, "file")]) == name).expect(name);
     let ba7 = row("ba7_article.toml");
     assert_eq!(ba7[col(&header, "status")], "ok");
-    let lo: f64 = ba7[col(&header, "phys_inertia_pivot_ci95_lo")].parse().unwrap();
-    let hi: f64 = ba7[col(&header, "phys_inertia_pivot_ci95_hi")].parse().unwrap();
+    // The physical interval is J ± U (k = 2).
+    let j: f64 = ba7[col(&header, "phys_inertia_pivot")].parse().unwrap();
+    let u: f64 = ba7[col(&header, "phys_inertia_pivot_expanded")].parse().unwrap();
+    let (lo, hi) = (j - u, j + u);
     assert!(lo <= 0.1650 && 0.1650 <= hi, "J interval [{lo}, {hi}]");
     // "auto" chose all three terms, so the summary has a quadratic column with a value.
     assert!(!ba7[col(&header, "quadratic")].is_empty());
@@ -262,7 +264,7 @@ fn physical_columns_appear_with_mass_and_pivot_to_cg() {
     // J = m g d / ωn² with standard gravity 9.80665 (docs/checks.md §1, common practice).
     let expected = 1.5 * 9.80665 * 0.2 / (wn * wn);
     assert!((j - expected).abs() < 1e-9 * expected, "J {j}, expected {expected}");
-    assert!(header.iter().any(|h| h == "phys_coulomb_ci95_hi"));
+    assert!(header.iter().any(|h| h == "phys_coulomb_expanded"));
 }
 
 #[test]

@@ -20,7 +20,7 @@ fn demo_article_needs_all_three_terms() {
     let stdout = String::from_utf8_lossy(&out.get_output().stdout).to_string();
     assert!(stdout.contains("Verdict: viscous+coulomb+quadratic explains the decay"), "{stdout}");
     let doc: Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
-    assert_eq!(doc["schema"], "swingfit.compare.v1");
+    assert_eq!(doc["schema"], "swingfit.compare.v2");
     assert_eq!(doc["best"], serde_json::json!(["viscous", "coulomb", "quadratic"]));
     assert_eq!(doc["explained"], true);
     let cands = doc["candidates"].as_array().unwrap();

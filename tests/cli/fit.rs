@@ -17,6 +17,13 @@ fn inside(p: &Value, truth: f64) -> bool {
     lo <= truth && truth <= hi
 }
 
+/// A physical value's expanded interval value ± U (k = 2) holds `truth`.
+fn inside_expanded(p: &Value, truth: f64) -> bool {
+    let (v, u) = (p["value"].as_f64().unwrap(), p["expanded"].as_f64().unwrap());
+    assert_eq!(p["coverage_factor"], 2.0);
+    v - u <= truth && truth <= v + u
+}
+
 #[test]
 fn demo_article_joint_fit_holds_the_truth_in_every_interval() {
     let dir = tempfile::tempdir().unwrap();
@@ -42,7 +49,7 @@ fn demo_article_joint_fit_holds_the_truth_in_every_interval() {
     let stdout = String::from_utf8_lossy(&out.get_output().stdout).to_string();
     assert!(stdout.contains("moment of inertia about pivot J"), "{stdout}");
     let doc: Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
-    assert_eq!(doc["schema"], "swingfit.fit.v1");
+    assert_eq!(doc["schema"], "swingfit.fit.v2");
     assert_eq!(doc["damping"], serde_json::json!(["viscous", "coulomb", "quadratic"]));
     assert_eq!(doc["fit"]["converged"], true);
     let t = truth();
@@ -55,7 +62,7 @@ fn demo_article_joint_fit_holds_the_truth_in_every_interval() {
     }
     // J = 0.1650 kg·m² by construction of the demo (data/README.md).
     assert!(
-        inside(&doc["physical"]["inertia_pivot"], 0.1650),
+        inside_expanded(&doc["physical"]["inertia_pivot"], 0.1650),
         "{}",
         doc["physical"]["inertia_pivot"]
     );

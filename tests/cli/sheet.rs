@@ -55,8 +55,8 @@ fn sheet_of_a_demo_log_has_every_part_and_is_reproducible() {
         assert!(names.contains(&format!("{stem}.png")), "{stem}.png in {names:?}");
     }
     let doc = json(&out.join("sheet.json"));
-    assert_eq!(doc["schema"], "swingfit.sheet.v1");
-    assert_eq!(doc["fit"]["schema"], "swingfit.fit.v1");
+    assert_eq!(doc["schema"], "swingfit.sheet.v2");
+    assert_eq!(doc["fit"]["schema"], "swingfit.fit.v2");
     let log_bytes = std::fs::read(demo_data("ba7_release15_deg.csv")).expect("log");
     assert_eq!(
         doc["provenance"]["inputs"][0]["sha256"],
@@ -71,7 +71,7 @@ fn sheet_of_a_demo_log_has_every_part_and_is_reproducible() {
     let w = omega["value"].as_f64().expect("value");
     assert!((w - 5.5379).abs() < 0.01, "omega_n {w}");
     assert!(
-        (omega["expanded_k2"].as_f64().expect("U") - 2.0 * omega["std"].as_f64().expect("u")).abs()
+        (omega["expanded"].as_f64().expect("U") - 2.0 * omega["std"].as_f64().expect("u")).abs()
             < 1e-15
     );
 

@@ -84,7 +84,58 @@ fn batch_rows_round_trip_line_by_line_with_error_rows() {
     for line in text.lines() {
         round_trip::<wire::batch::BatchRowDoc>(line, |d| serde_json::to_string(d).expect("json"));
         let doc: wire::batch::BatchRowDoc = serde_json::from_str(line).expect("row");
-        errors += usize::from(doc.status != "ok");
+        errors += usize::from(doc.status != wire::Status::Ok);
     }
     assert!(errors > 0, "the mixed folder has bad logs: their rows must read back too");
+}
+
+#[test]
+fn sheet_document_round_trips() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out_dir = dir.path().join("sheet");
+    let out = swingfit()
+        .args(["sheet", &s(&demo_data("ba7_article.toml")), "--out", &s(&out_dir)])
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = std::fs::read_to_string(out_dir.join("sheet.json")).expect("sheet json");
+    round_trip::<wire::sheet::SheetDoc>(&text, wire::to_pretty);
+}
+
+/// The lines of a simulated log after its header comment.
+fn replay(params: &std::path::Path) -> String {
+    let log = demo_data("ba7_release15_deg.csv");
+    let out = swingfit()
+        .args(["simulate", "--params", &s(params), "--times", &s(&log)])
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    String::from_utf8(out.stdout)
+        .expect("utf-8")
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+#[test]
+fn simulate_reads_an_old_fit_v1_document_as_it_reads_today_s_v2() {
+    // tests/data/wire/fit_v1.json was written by the fit.v1 writer on the demo log (README there).
+    let v1 = test_data("wire/fit_v1.json");
+    let old: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&v1).expect("v1 file")).expect("json");
+    assert_eq!(old["schema"], "swingfit.fit.v1");
+    let dir = tempfile::tempdir().expect("temp dir");
+    let v2 = dir.path().join("fit.json");
+    let out = swingfit()
+        .args(["fit", &s(&demo_data("ba7_release15_deg.csv")), "--json", &s(&v2)])
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let new: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&v2).expect("v2 file")).expect("json");
+    assert_eq!(new["schema"], wire::fit::FIT_SCHEMA);
+    // Same fit, same numbers: the two documents replay to the same log.
+    assert_eq!(old["normalized"], new["normalized"]);
+    assert_eq!(replay(&v1), replay(&v2));
 }

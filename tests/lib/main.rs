@@ -13,6 +13,7 @@ mod plan;
 mod realdata;
 mod reference;
 mod report;
+mod schemas;
 mod segment;
 mod stats;
 mod synth;

@@ -513,20 +513,20 @@ fn sheet_holds_every_number_and_plot() {
     let doc: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("sheet.json")).expect("json"))
             .expect("parse");
-    assert_eq!(doc["schema"], "swingfit.sheet.v1");
-    assert_eq!(doc["fit"]["schema"], "swingfit.fit.v1");
+    assert_eq!(doc["schema"], "swingfit.sheet.v2");
+    assert_eq!(doc["fit"]["schema"], "swingfit.fit.v2");
     let rows = doc["coefficients"].as_array().expect("rows");
     let find = |view: &str, key: &str| {
         rows.iter().find(|r| r["view"] == view && r["key"] == key).expect(key).clone()
     };
-    assert_relative_eq!(find("per_unit_inertia", "omega_n")["value"].as_f64().expect("v"), OMEGA_N);
+    assert_relative_eq!(find("normalized", "omega_n")["value"].as_f64().expect("v"), OMEGA_N);
     assert_relative_eq!(
-        find("per_unit_inertia", "viscous")["expanded_k2"].as_f64().expect("u"),
+        find("normalized", "viscous")["expanded"].as_f64().expect("u"),
         2.0 * 3.4e-5
     );
     assert_relative_eq!(find("physical", "inertia_pivot")["value"].as_f64().expect("J"), 0.11975);
-    assert_eq!(doc["comparison"]["best"], "viscous");
-    assert_eq!(doc["comparison"]["candidates"][1]["converged"], false);
+    assert_eq!(doc["comparison"]["best"], serde_json::json!(["viscous"]));
+    assert_eq!(doc["comparison"]["candidates"][1]["status"], "failed");
     assert_eq!(doc["plots"].as_array().expect("plots").len(), 7);
     assert_eq!(doc["provenance"]["inputs"][0]["sha256"], sheet::sha256_hex(b"x"));
 

@@ -98,7 +98,7 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
     let mut view = "";
     for r in &doc.coefficients {
         if r.view != view {
-            view = r.view;
+            view = &r.view;
             let _ =
                 writeln!(h, "<tr class=\"view\"><th colspan=\"6\">{}</th></tr>", view_title(view));
         }
@@ -108,9 +108,9 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
             "<tr data-key=\"{}:{}\"><td>{}</td><td>{}</td><td class=\"num\">{v}</td><td class=\"num\">{u}</td><td class=\"num\">{big}</td><td>{}</td></tr>",
             r.view,
             r.key,
-            esc(r.quantity),
-            esc(r.symbol),
-            esc(&typeset::unit(r.unit))
+            esc(&r.quantity),
+            esc(&r.symbol),
+            esc(&typeset::unit(&r.unit))
         );
     }
     let _ = writeln!(
@@ -150,34 +150,34 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
                 h,
                 "<p>{}</p>\n<p>Measured envelope law: {}.</p>",
                 typeset::code_spans_html(&c.verdict),
-                esc(c.envelope_law)
+                esc(&c.envelope_law)
             );
             let _ = writeln!(
                 h,
                 "<table class=\"candidates\">\n<thead><tr><th>damping</th><th>RMS residual [rad]</th><th>AIC</th><th>BIC</th><th>Ljung–Box p</th><th>all terms significant</th><th>explains decay</th></tr></thead>\n<tbody>"
             );
             for e in &c.candidates {
-                let chosen = c.best.as_deref() == Some(e.damping.as_str());
+                let chosen = c.best.as_ref() == Some(&e.damping);
                 let name = format!(
                     "{}{}",
-                    esc(&e.damping).replace('+', "+<wbr>"),
+                    esc(&e.damping.join("+")).replace('+', "+<wbr>"),
                     if chosen { " <b>(chosen)</b>" } else { "" }
                 );
-                match (&e.error, e.converged) {
+                match (&e.error, e.status) {
                     (Some(m), _) => {
                         let _ = writeln!(
                             h,
                             "<tr class=\"failed\"><td>{name}</td><td colspan=\"6\">failed: {}</td></tr>",
-                            typeset::code_spans_html(m)
+                            typeset::code_spans_html(&m.message)
                         );
                     }
-                    (None, false) => {
+                    (None, wire::Status::Failed) => {
                         let _ = writeln!(
                             h,
                             "<tr class=\"failed\"><td>{name}</td><td colspan=\"6\">failed: the fit did not converge</td></tr>"
                         );
                     }
-                    (None, true) => {
+                    (None, wire::Status::Ok) => {
                         let _ = writeln!(
                             h,
                             "<tr><td>{name}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td><td>{}</td></tr>",
@@ -225,7 +225,7 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
             esc(&r.file),
             typeset::num(r.rms_residual, 3),
             typeset::num(r.noise_floor, 3),
-            typeset::num(r.ratio_to_noise, 3),
+            typeset::num(r.noise_ratio, 3),
             typeset::p_value(r.ljung_box_p)
         );
     }
@@ -283,7 +283,7 @@ pub fn sheet_html(doc: &wire::SheetDoc, svgs: &[String]) -> String {
     let _ = writeln!(
         h,
         "<section id=\"caution\" class=\"appendix\">\n<h2>Appendix F. Safety and use</h2>\n<p class=\"caution\">{}</p>\n</section>\n</body>\n</html>",
-        esc(doc.caution)
+        esc(&doc.caution)
     );
     h
 }

@@ -32,10 +32,10 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         let _ = writeln!(
             s,
             "| {} | {} | {} | {v} | {u} | {big} | {} |",
-            view_name(r.view),
+            view_name(&r.view),
             r.quantity,
             r.symbol,
-            typeset::unit(r.unit)
+            typeset::unit(&r.unit)
         );
     }
     let _ = writeln!(s, "\n**Result.** {}", result_sentences(doc));
@@ -48,12 +48,12 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
         );
         let _ = writeln!(s, "|---|---|---:|---:|---:|---:|---|---|");
         for e in &c.candidates {
-            if let (false, why) = (e.converged, &e.error) {
-                let why = why.as_deref().unwrap_or("the fit did not converge");
+            if e.status == wire::Status::Failed {
+                let why = e.error.as_ref().map_or("the fit did not converge", |f| &f.message);
                 let _ = writeln!(
                     s,
                     "| {} | failed: {} | | | | | | |",
-                    e.damping,
+                    e.damping.join("+"),
                     why.replace('|', "/")
                 );
                 continue;
@@ -61,7 +61,7 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
             let _ = writeln!(
                 s,
                 "| {} | yes | {} | {} | {} | {} | {} | {} |",
-                e.damping,
+                e.damping.join("+"),
                 typeset::num(e.rms_residual, 3),
                 typeset::num(e.aic, 6),
                 typeset::num(e.bic, 6),
@@ -92,7 +92,7 @@ pub fn sheet_markdown(doc: &wire::SheetDoc) -> String {
             r.file,
             typeset::num(r.rms_residual, 3),
             typeset::num(r.noise_floor, 3),
-            typeset::num(r.ratio_to_noise, 3),
+            typeset::num(r.noise_ratio, 3),
             typeset::p_value(r.ljung_box_p)
         );
     }

@@ -9,10 +9,10 @@ use crate::fit::compare::Comparison;
 use crate::physical::PhysicalCoefficients;
 use crate::report::plot::{Chart, RunView};
 use crate::report::wire::fit as json;
+use crate::report::wire::{Failure, FailureKind, Status};
 
 use super::provenance::Provenance;
 use super::{SHEET_SCHEMA, wire};
-use serde::Serialize;
 
 /// The safety and usage caution printed on every sheet: the one text of [`crate::safety`].
 pub const CAUTION: &str = crate::safety::SAFETY;
@@ -75,26 +75,7 @@ pub struct SheetInput<'a> {
     pub provenance: Provenance,
 }
 
-/// One line of the coefficient table.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct CoefficientRow {
-    /// `per_unit_inertia` or `physical`.
-    pub view: &'static str,
-    /// Machine key, e.g. `viscous`.
-    pub key: &'static str,
-    /// Symbol, e.g. `b1` or `c`.
-    pub symbol: &'static str,
-    /// What it is, in words.
-    pub quantity: &'static str,
-    /// Best estimate.
-    pub value: f64,
-    /// Combined standard uncertainty.
-    pub std: f64,
-    /// Expanded uncertainty U = 2 u.
-    pub expanded_k2: f64,
-    /// Unit.
-    pub unit: &'static str,
-}
+pub use crate::report::wire::sheet::CoefficientRow;
 
 /// The coefficient table: per unit inertia (ωn and each fitted term), then physical.
 pub fn coefficient_rows(
@@ -102,18 +83,22 @@ pub fn coefficient_rows(
     physical: Option<&PhysicalCoefficients>,
 ) -> Vec<CoefficientRow> {
     use crate::model::Term;
-    let row = |view, key, symbol, quantity, value: f64, std: f64, unit| CoefficientRow {
-        view,
-        key,
-        symbol,
-        quantity,
-        value,
-        std,
-        expanded_k2: 2.0 * std,
-        unit,
-    };
+    let row =
+        |view: &str, key: &str, symbol: &str, quantity: &str, value: f64, std: f64, unit: &str| {
+            CoefficientRow {
+                view: view.into(),
+                key: key.into(),
+                symbol: symbol.into(),
+                quantity: quantity.into(),
+                value,
+                std,
+                expanded: 2.0 * std,
+                coverage_factor: 2.0,
+                unit: unit.into(),
+            }
+        };
     let mut rows = vec![row(
-        "per_unit_inertia",
+        "normalized",
         "omega_n",
         "ωn",
         "natural frequency (small amplitude)",
@@ -131,7 +116,7 @@ pub fn coefficient_rows(
             Term::StribeckVelocity => "Stribeck velocity",
         };
         rows.push(row(
-            "per_unit_inertia",
+            "normalized",
             t.name(),
             t.symbol(),
             quantity,
@@ -141,15 +126,18 @@ pub fn coefficient_rows(
         ));
     }
     if let Some(p) = physical {
-        let q = |key, symbol, quantity, v: &crate::physical::Quantity| CoefficientRow {
-            view: "physical",
-            key,
-            symbol,
-            quantity,
-            value: v.value,
-            std: v.u_c,
-            expanded_k2: v.expanded,
-            unit: v.unit,
+        let q = |key: &str, symbol: &str, quantity: &str, v: &crate::physical::Quantity| {
+            CoefficientRow {
+                view: "physical".into(),
+                key: key.into(),
+                symbol: symbol.into(),
+                quantity: quantity.into(),
+                value: v.value,
+                std: v.u_c,
+                expanded: v.expanded,
+                coverage_factor: v.k,
+                unit: v.unit.into(),
+            }
         };
         rows.push(q("inertia_pivot", "J", "moment of inertia about the pivot", &p.inertia_pivot));
         rows.push(q("inertia_cg", "Jcg", "moment of inertia about the CG", &p.inertia_cg));
@@ -224,7 +212,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
     let id = &input.identity;
     let fit = input.fit;
     wire::SheetDoc {
-        schema: SHEET_SCHEMA,
+        schema: SHEET_SCHEMA.into(),
         article: wire::Article {
             id: id.id.clone(),
             name: id.name.clone(),
@@ -232,18 +220,18 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             rig: id.rig.clone(),
             operator: id.operator.clone(),
             notes: id.notes.clone(),
-            mass: id.mass.map(|m| wire::Measured { value: m.value, std: m.u, unit: "kg" }),
+            mass: id.mass.map(|m| wire::Measured { value: m.value, std: m.u, unit: "kg".into() }),
             pivot_to_cg: id.pivot_to_cg.map(|d| wire::Measured {
                 value: d.value,
                 std: d.u,
-                unit: "m",
+                unit: "m".into(),
             }),
             gravity: id.gravity.clone(),
         },
         runs: input
             .runs
             .iter()
-            .map(|r| wire::Run {
+            .map(|r| wire::SheetRun {
                 label: r.name.to_string(),
                 file: r.fit.source.clone(),
                 samples: r.fit.samples,
@@ -251,27 +239,32 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             })
             .collect(),
         damping: wire::Damping {
-            choice: if input.damping_auto { "auto" } else { "given" },
-            fitted: fit.damping.names(),
+            choice: if input.damping_auto { "auto" } else { "given" }.into(),
+            fitted: crate::report::wire::names(fit.damping),
         },
         coefficients: coefficient_rows(fit, input.physical),
         comparison: input.comparison.map(|c| wire::Comparison {
             verdict: crate::report::verdict::comparison(c),
             explained: c.explained,
-            best: c.best.map(|b| b.to_string()),
-            envelope_law: c.envelope_law().describe(),
+            best: c.best.map(crate::report::wire::names),
+            envelope_law: c.envelope_law().describe().into(),
             candidates: c
                 .candidates
                 .iter()
                 .map(|e| wire::Candidate {
-                    damping: e.damping.to_string(),
-                    converged: e.fit.is_ok(),
-                    error: e.fit.as_ref().err().map(|e| e.to_string()),
+                    damping: crate::report::wire::names(e.damping),
+                    status: if e.fit.is_ok() { Status::Ok } else { Status::Failed },
+                    error: e
+                        .fit
+                        .as_ref()
+                        .err()
+                        .map(|e| Failure { kind: FailureKind::Rejected, message: e.to_string() }),
                     rss: e.rss,
                     aic: e.aic,
                     bic: e.bic,
                     ljung_box_p: e.ljung_box_p,
                     rms_residual: e.rms_residual,
+                    noise_ratio: e.noise_ratio,
                     all_significant: e.all_significant,
                     explains_decay: e.explains_decay,
                 })
@@ -292,7 +285,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
                     file: r.source.clone(),
                     rms_residual: r.rms_residual,
                     noise_floor: r.noise_floor,
-                    ratio_to_noise: r.rms_residual / r.noise_floor,
+                    noise_ratio: r.rms_residual / r.noise_floor,
                     ljung_box_p: r.ljung_box_p,
                 })
                 .collect(),
@@ -308,7 +301,7 @@ pub fn sheet_doc(input: &SheetInput<'_>, charts: &[Chart]) -> wire::SheetDoc {
             })
             .collect(),
         assumptions: assumptions(),
-        caution: CAUTION,
+        caution: CAUTION.into(),
         provenance: input.provenance.clone(),
         fit: json::fit_doc(fit, input.physical),
     }

@@ -6,23 +6,11 @@ use std::fs;
 use std::path::Path;
 use std::time::SystemTime;
 
-use serde::Serialize;
 use sha2::{Digest, Sha256};
 
 use super::date::iso8601_utc;
 
-/// A hashed input file.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct InputDigest {
-    /// "article" or "log".
-    pub role: String,
-    /// Path as given.
-    pub path: String,
-    /// SHA-256 of the file's bytes, lowercase hex.
-    pub sha256: String,
-    /// Size in bytes.
-    pub bytes: u64,
-}
+pub use crate::report::wire::sheet::{InputDigest, Provenance};
 
 impl InputDigest {
     /// Hash the file at `path`.
@@ -35,21 +23,6 @@ impl InputDigest {
             bytes: bytes.len() as u64,
         })
     }
-}
-
-/// Where the sheet came from.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct Provenance {
-    /// Program name.
-    pub tool: String,
-    /// Program version.
-    pub version: String,
-    /// The full command line, arguments separated by spaces (quoted when they hold spaces).
-    pub command_line: String,
-    /// When the sheet was made, ISO 8601 UTC.
-    pub generated_utc: String,
-    /// Every input file with its digest.
-    pub inputs: Vec<InputDigest>,
 }
 
 impl Provenance {

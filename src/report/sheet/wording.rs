@@ -87,7 +87,7 @@ pub fn first_sentence(text: &str) -> &str {
 }
 
 /// The run as named on the sheet: its label, and the file only when it differs from the label.
-pub(super) fn run_name(r: &wire::Run) -> String {
+pub(super) fn run_name(r: &wire::SheetRun) -> String {
     // The file by its name only (the full path is in the provenance appendix).
     let base = Path::new(&r.file)
         .file_name()
@@ -119,7 +119,7 @@ pub(super) fn damping_sentence(doc: &wire::SheetDoc, set: &str) -> String {
 /// The value, u and U cells of a coefficient row, typeset (GUM: U to two significant digits,
 /// value and u to the same decimal place).
 pub(super) fn coefficient_cells(r: &CoefficientRow) -> (String, String, String) {
-    let (v, big) = typeset::format_pair(r.value, r.expanded_k2);
+    let (v, big) = typeset::format_pair(r.value, r.expanded);
     let (_, u) = typeset::format_pair(r.value, r.std);
     (typeset::minus(&v), typeset::minus(&u), typeset::minus(&big))
 }

@@ -1,187 +1,55 @@
-//! The batch summaries: `summary.jsonl` (one `swingfit.batch.v1` object per log) and
+//! The batch summaries: `summary.jsonl` (one `swingfit.batch.v2` object per log) and
 //! `summary.csv` (the same rows, flattened), built from the rows of [`crate::batch::run`].
 //!
-//! ## Wire format `swingfit.batch.v1` (one JSON object per line of `summary.jsonl`)
+//! ## Wire format `swingfit.batch.v2` (one JSON object per line of `summary.jsonl`)
 //! ```text
-//! { "schema": "swingfit.batch.v1", "file": "…", "status": "ok" | "error",
+//! { "schema": "swingfit.batch.v2", "file": "…", "status": "ok" | "failed",
+//!   "error": { "kind": "input" | "rejected", "message": "…" } | null,
 //!   "adequacy": "explained" | "approximate" | "not_explained" | null, "damping": [..] | null,
-//!   "error_kind": null | "input" | "rejected", "error": null | "…",
 //!   "samples": n, "dropped_rows": n, "iterations": n, "rms_residual": r, "noise_floor": s,
-//!   "normalized": { "omega_n": P, "viscous": P, … },    fitted terms only
-//!   "physical": { "inertia_pivot": P, "viscous": P, … } only with mass and pivot-to-CG
+//!   "normalized": { …as in swingfit.fit.v2… },   fitted terms only
+//!   "physical": { …as in swingfit.fit.v2… }      only with mass and pivot-to-CG (or an article)
 //!   "notes": [ "…" ]   what was cut before fitting (rest, holds, forced swings, re-timed slips)
 //! }
 //! ```
-//! `P` is the fit JSON's `{ "value", "std", "ci95": [lo, hi], "unit" }` (see
-//! [`super::fit`]); on an error row every field after `error` is null. `iterations`
-//! counts every continuation stage; `rms_residual` and `noise_floor` are in rad.
+//! `normalized` and `physical` are the fit document's blocks ([`super::fit::Normalized`],
+//! [`super::fit::Physical`]); on a failed row every field after `error` is null. `iterations`
+//! counts every continuation stage; `rms_residual` and `noise_floor` are in rad. v1 wrote
+//! `"status": "error"` with `error_kind` and `error` (the message), and only `inertia_pivot` and
+//! the damping terms under `physical`, each with a `ci95` that was value ± U.
 //!
-//! `summary.csv` has the same content, flattened: for each coefficient `NAME`, the columns
-//! `NAME`, `NAME_std`, `NAME_ci95_lo`, `NAME_ci95_hi`; physical coefficients are prefixed
-//! `phys_`. Empty cells on error rows. Numbers are written in Rust's shortest round-trip form.
-
-use std::collections::BTreeMap;
+//! `summary.csv` has the same content, flattened (the `error` object as `error_kind` and
+//! `error`, `damping` as `viscous+coulomb`): for each per-unit-inertia coefficient `NAME` the
+//! columns `NAME`, `NAME_std`, `NAME_ci95_lo`, `NAME_ci95_hi`; for J about the pivot and each
+//! physical damping coefficient `phys_NAME`, `phys_NAME_std`, `phys_NAME_expanded` (U, k = 2).
+//! Empty cells on failed rows. Numbers are written in Rust's shortest round-trip form.
 
 use serde::{Deserialize, Serialize};
 
-use super::fit::P;
-use crate::batch::{Row, RowFit};
-use crate::fit::Estimate;
+use super::fit::{Estimated, Expanded, Normalized, Physical, physical_doc};
+use super::{Failure, FailureKind, Status};
+use crate::batch::{ErrorKind, Row};
 use crate::model::{DampingSet, Term};
-use crate::physical::Quantity;
 
 /// Schema tag written on every line of `summary.jsonl`.
-pub const BATCH_SCHEMA: &str = "swingfit.batch.v1";
-
-/// The columns a summary needs: the batch's damping set widened by every term any row fitted
-/// (an article may fit other terms), and physical columns when any row has them.
-pub fn summary_columns(rows: &[Row], base: DampingSet, physical: bool) -> (DampingSet, bool) {
-    let mut set = base;
-    let mut phys = physical;
-    for f in rows.iter().filter_map(|r| r.result.as_ref().ok()) {
-        for (t, _) in &f.terms {
-            set = set.with(*t);
-        }
-        phys |= f.physical.is_some();
-    }
-    (set, phys)
-}
-
-/// Shortest round-trip form of a number (`NaN`, `inf` as Rust prints them).
-fn num(v: f64) -> String {
-    format!("{v}")
-}
-
-/// Names of the coefficient groups a batch writes, in column order, with the physical ones
-/// prefixed `phys_`.
-fn coefficient_names(damping: DampingSet, physical: bool) -> Vec<String> {
-    let mut v = vec!["omega_n".to_string()];
-    v.extend(damping.iter().map(|t| t.name().to_string()));
-    if physical {
-        v.push("phys_inertia_pivot".into());
-        v.extend(damping.iter().map(|t| format!("phys_{}", t.name())));
-    }
-    v
-}
-
-/// The (value, std, ci95) of every coefficient of a row, in [`coefficient_names`] order.
-fn coefficient_values(
-    fit: &RowFit,
-    damping: DampingSet,
-    physical: bool,
-) -> Vec<Option<(f64, f64, f64, f64)>> {
-    let est = |e: &Estimate| Some((e.value, e.std, e.ci95.0, e.ci95.1));
-    let qty = |q: &Quantity| Some((q.value, q.u_c, q.value - q.expanded, q.value + q.expanded));
-    let mut v = vec![est(&fit.omega_n)];
-    v.extend(
-        damping.iter().map(|t| fit.terms.iter().find(|(u, _)| *u == t).and_then(|(_, e)| est(e))),
-    );
-    if physical {
-        let p = fit.physical.as_ref();
-        v.push(p.and_then(|p| qty(&p.inertia_pivot)));
-        for t in damping.iter() {
-            let q = p.and_then(|p| p.damping[t.index()].as_ref());
-            v.push(q.and_then(qty));
-        }
-    }
-    v
-}
-
-/// `summary.csv`: a header and one row per log, in the order of `rows`. `physical` adds the
-/// physical columns (pass whether an article was given).
-pub fn summary_csv(rows: &[Row], damping: DampingSet, physical: bool) -> String {
-    let names = coefficient_names(damping, physical);
-    let mut header: Vec<String> = [
-        "file",
-        "status",
-        "adequacy",
-        "damping",
-        "error_kind",
-        "error",
-        "samples",
-        "dropped_rows",
-        "iterations",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
-    header.extend(["rms_residual".to_string(), "noise_floor".to_string()]);
-    for n in &names {
-        header.extend([
-            n.clone(),
-            format!("{n}_std"),
-            format!("{n}_ci95_lo"),
-            format!("{n}_ci95_hi"),
-        ]);
-    }
-    let mut w =
-        csv::WriterBuilder::new().terminator(csv::Terminator::Any(b'\n')).from_writer(Vec::new());
-    let mut records: Vec<Vec<String>> = vec![header];
-    for row in rows {
-        let mut rec = vec![row.file.clone()];
-        match &row.result {
-            Ok(f) => {
-                rec.extend([
-                    "ok".into(),
-                    f.adequacy.name().into(),
-                    f.damping.names().join("+"),
-                    String::new(),
-                    String::new(),
-                ]);
-                rec.extend([
-                    f.samples.to_string(),
-                    f.dropped_rows.to_string(),
-                    f.iterations.to_string(),
-                ]);
-                rec.extend([num(f.rms_residual), num(f.noise_floor)]);
-                for c in coefficient_values(f, damping, physical) {
-                    match c {
-                        Some((v, s, lo, hi)) => rec.extend([num(v), num(s), num(lo), num(hi)]),
-                        None => rec.extend(std::iter::repeat_n(String::new(), 4)),
-                    }
-                }
-            }
-            Err(e) => {
-                rec.extend([
-                    "error".into(),
-                    String::new(),
-                    String::new(),
-                    e.kind.name().into(),
-                    e.message.clone(),
-                ]);
-                rec.extend(std::iter::repeat_n(String::new(), 5 + 4 * names.len()));
-            }
-        }
-        records.push(rec);
-    }
-    for rec in &records {
-        // Writing to a Vec cannot fail, and every record has the header's length.
-        if w.write_record(rec).is_err() {
-            break;
-        }
-    }
-    let bytes = w.into_inner().unwrap_or_default();
-    String::from_utf8_lossy(&bytes).into_owned()
-}
+pub const BATCH_SCHEMA: &str = "swingfit.batch.v2";
 
 /// One line of `summary.jsonl`: a fitted log, or why it has no fit (every field after `error`
 /// is null then).
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct BatchRowDoc {
-    /// `swingfit.batch.v1`.
+    /// `swingfit.batch.v2`.
     pub schema: String,
     /// The input as given or found.
     pub file: String,
-    /// `ok` or `error`.
-    pub status: String,
+    /// `ok` or `failed`.
+    pub status: Status,
+    /// Why there is no fit (null on an `ok` row).
+    pub error: Option<Failure>,
     /// The fit's adequacy verdict.
     pub adequacy: Option<String>,
     /// Fitted terms.
     pub damping: Option<Vec<String>>,
-    /// `input` or `rejected`.
-    pub error_kind: Option<String>,
-    /// The message, as `swingfit fit` would print it.
-    pub error: Option<String>,
     /// Samples fitted.
     pub samples: Option<usize>,
     /// Rows dropped by `--drop-bad-rows`.
@@ -192,89 +60,226 @@ pub struct BatchRowDoc {
     pub rms_residual: Option<f64>,
     /// Noise floor [rad].
     pub noise_floor: Option<f64>,
-    /// ωn and the fitted terms per unit inertia, by key.
-    pub normalized: Option<BTreeMap<String, P>>,
-    /// J about the pivot and the physical damping coefficients, by key (with an article).
-    pub physical: Option<BTreeMap<String, P>>,
+    /// ωn and the fitted terms per unit inertia.
+    pub normalized: Option<Normalized>,
+    /// The physical coefficients (with mass properties).
+    pub physical: Option<Physical>,
     /// What was cut before fitting.
     pub notes: Option<Vec<String>>,
 }
 
 /// The wire row of one batch row.
 pub fn row_doc(row: &Row) -> BatchRowDoc {
+    let empty = BatchRowDoc {
+        schema: BATCH_SCHEMA.into(),
+        file: row.file.clone(),
+        status: Status::Failed,
+        error: None,
+        adequacy: None,
+        damping: None,
+        samples: None,
+        dropped_rows: None,
+        iterations: None,
+        rms_residual: None,
+        noise_floor: None,
+        normalized: None,
+        physical: None,
+        notes: None,
+    };
     match &row.result {
         Ok(f) => {
-            let mut normalized = BTreeMap::new();
-            normalized.insert("omega_n".to_string(), P::from(&f.omega_n));
-            for (t, e) in &f.terms {
-                normalized.insert(t.name().to_string(), P::from(e));
-            }
-            let physical = f.physical.as_ref().map(|p| {
-                let mut m = BTreeMap::new();
-                m.insert("inertia_pivot".to_string(), P::from(&p.inertia_pivot));
-                for t in Term::ALL {
-                    if let Some(q) = &p.damping[t.index()] {
-                        m.insert(t.name().to_string(), P::from(q));
-                    }
-                }
-                m
-            });
+            let term =
+                |t: Term| f.terms.iter().find(|(u, _)| *u == t).map(|(_, e)| Estimated::from(e));
             BatchRowDoc {
-                schema: BATCH_SCHEMA.into(),
-                file: row.file.clone(),
-                status: "ok".into(),
+                status: Status::Ok,
                 adequacy: Some(f.adequacy.name().into()),
                 damping: Some(super::names(f.damping)),
-                error_kind: None,
-                error: None,
                 samples: Some(f.samples),
                 dropped_rows: Some(f.dropped_rows),
                 iterations: Some(f.iterations),
                 rms_residual: Some(f.rms_residual),
                 noise_floor: Some(f.noise_floor),
-                normalized: Some(normalized),
-                physical,
+                normalized: Some(Normalized {
+                    omega_n: Estimated::from(&f.omega_n),
+                    viscous: term(Term::Viscous),
+                    coulomb: term(Term::Coulomb),
+                    quadratic: term(Term::Quadratic),
+                    presliding: term(Term::Presliding),
+                    stribeck: term(Term::Stribeck),
+                    stribeck_velocity: term(Term::StribeckVelocity),
+                }),
+                physical: f.physical.as_ref().map(physical_doc),
                 notes: Some(f.notes.clone()),
+                ..empty
             }
         }
         Err(e) => BatchRowDoc {
-            schema: BATCH_SCHEMA.into(),
-            file: row.file.clone(),
-            status: "error".into(),
-            adequacy: None,
-            damping: None,
-            error_kind: Some(e.kind.name().into()),
-            error: Some(e.message.clone()),
-            samples: None,
-            dropped_rows: None,
-            iterations: None,
-            rms_residual: None,
-            noise_floor: None,
-            normalized: None,
-            physical: None,
-            notes: None,
+            error: Some(Failure {
+                kind: match e.kind {
+                    ErrorKind::Input => FailureKind::Input,
+                    ErrorKind::Rejected => FailureKind::Rejected,
+                },
+                message: e.message.clone(),
+            }),
+            ..empty
         },
     }
 }
 
-/// `summary.jsonl`: one `swingfit.batch.v1` object per row, in the order of `rows`.
-pub fn summary_jsonl(rows: &[Row]) -> String {
+/// `summary.jsonl`: one `swingfit.batch.v2` object per row, in the order of `rows`.
+pub fn summary_jsonl(rows: &[BatchRowDoc]) -> String {
     let mut out = String::new();
     for row in rows {
-        // Plain structs and string-keyed maps always serialize; NaN becomes null.
+        // Plain structs always serialize; NaN becomes null.
         out.push_str(
-            &serde_json::to_string(&row_doc(row))
-                .unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}")),
+            &serde_json::to_string(row).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}")),
         );
         out.push('\n');
     }
     out
 }
 
+/// The columns a summary needs: the batch's damping set widened by every term any row fitted
+/// (an article may fit other terms), and physical columns when any row has them.
+pub fn summary_columns(
+    rows: &[BatchRowDoc],
+    base: DampingSet,
+    physical: bool,
+) -> (DampingSet, bool) {
+    let mut set = base;
+    let mut phys = physical;
+    for r in rows {
+        for t in Term::ALL {
+            if r.normalized.as_ref().is_some_and(|n| n.term(t).is_some()) {
+                set = set.with(t);
+            }
+        }
+        phys |= r.physical.is_some();
+    }
+    (set, phys)
+}
+
+/// Shortest round-trip form of a number (`NaN`, `inf` as Rust prints them).
+fn num(v: f64) -> String {
+    format!("{v}")
+}
+
+/// One coefficient's cells: per unit inertia (value, std, ci95 lo, hi) or physical (value,
+/// std, U).
+enum Cells<'a> {
+    Normalized(Option<&'a Estimated>),
+    Physical(Option<&'a Expanded>),
+}
+
+impl Cells<'_> {
+    fn write(&self, rec: &mut Vec<String>) {
+        match self {
+            Cells::Normalized(Some(e)) => {
+                rec.extend([num(e.value), num(e.std), num(e.ci95[0]), num(e.ci95[1])]);
+            }
+            Cells::Normalized(None) => rec.extend(std::iter::repeat_n(String::new(), 4)),
+            Cells::Physical(Some(q)) => rec.extend([num(q.value), num(q.std), num(q.expanded)]),
+            Cells::Physical(None) => rec.extend(std::iter::repeat_n(String::new(), 3)),
+        }
+    }
+}
+
+/// The coefficient groups of the CSV in column order: (name, physical?).
+fn groups(damping: DampingSet, physical: bool) -> Vec<(String, bool)> {
+    let mut v = vec![("omega_n".to_string(), false)];
+    v.extend(damping.iter().map(|t| (t.name().to_string(), false)));
+    if physical {
+        v.push(("phys_inertia_pivot".into(), true));
+        v.extend(damping.iter().map(|t| (format!("phys_{}", t.name()), true)));
+    }
+    v
+}
+
+/// `summary.csv`: a header and one row per log, in the order of `rows`. `physical` adds the
+/// physical columns (pass whether an article was given); see [`summary_columns`].
+pub fn summary_csv(rows: &[BatchRowDoc], damping: DampingSet, physical: bool) -> String {
+    let groups = groups(damping, physical);
+    let mut header: Vec<String> = [
+        "file",
+        "status",
+        "adequacy",
+        "damping",
+        "error_kind",
+        "error",
+        "samples",
+        "dropped_rows",
+        "iterations",
+        "rms_residual",
+        "noise_floor",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
+    for (n, phys) in &groups {
+        if *phys {
+            header.extend([n.clone(), format!("{n}_std"), format!("{n}_expanded")]);
+        } else {
+            header.extend([
+                n.clone(),
+                format!("{n}_std"),
+                format!("{n}_ci95_lo"),
+                format!("{n}_ci95_hi"),
+            ]);
+        }
+    }
+    let opt = |v: Option<String>| v.unwrap_or_default();
+    let mut records: Vec<Vec<String>> = vec![header];
+    for row in rows {
+        let mut rec = vec![
+            row.file.clone(),
+            match row.status {
+                Status::Ok => "ok".into(),
+                Status::Failed => "failed".into(),
+            },
+            opt(row.adequacy.clone()),
+            opt(row.damping.as_ref().map(|d| d.join("+"))),
+            opt(row.error.as_ref().map(|e| match e.kind {
+                FailureKind::Input => "input".into(),
+                FailureKind::Rejected => "rejected".into(),
+            })),
+            opt(row.error.as_ref().map(|e| e.message.clone())),
+            opt(row.samples.map(|n| n.to_string())),
+            opt(row.dropped_rows.map(|n| n.to_string())),
+            opt(row.iterations.map(|n| n.to_string())),
+            opt(row.rms_residual.map(num)),
+            opt(row.noise_floor.map(num)),
+        ];
+        let n = row.normalized.as_ref();
+        let p = row.physical.as_ref();
+        Cells::Normalized(n.map(|n| &n.omega_n)).write(&mut rec);
+        for t in damping.iter() {
+            Cells::Normalized(n.and_then(|n| n.term(t))).write(&mut rec);
+        }
+        if physical {
+            Cells::Physical(p.map(|p| &p.inertia_pivot)).write(&mut rec);
+            for t in damping.iter() {
+                Cells::Physical(p.and_then(|p| p.term(t))).write(&mut rec);
+            }
+        }
+        records.push(rec);
+    }
+    let mut w =
+        csv::WriterBuilder::new().terminator(csv::Terminator::Any(b'\n')).from_writer(Vec::new());
+    for rec in &records {
+        // Writing to a Vec cannot fail, and every record has the header's length.
+        if w.write_record(rec).is_err() {
+            break;
+        }
+    }
+    let bytes = w.into_inner().unwrap_or_default();
+    String::from_utf8_lossy(&bytes).into_owned()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::batch::{ErrorKind, RowError};
+    use crate::batch::{RowError, RowFit};
+    use crate::fit::Estimate;
     use crate::fit::adequacy::Adequacy;
 
     fn est(value: f64, std: f64, unit: &'static str) -> Estimate {
@@ -316,7 +321,8 @@ mod tests {
     #[test]
     fn csv_has_one_column_group_per_fitted_coefficient_and_quotes_messages() {
         let set = DampingSet::from_terms(&[Term::Viscous, Term::Coulomb]);
-        let text = summary_csv(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Input)], set, false);
+        let rows = [row_doc(&ok_row("a.csv")), row_doc(&bad_row("b.csv", ErrorKind::Input))];
+        let text = summary_csv(&rows, set, false);
         let lines: Vec<&str> = text.lines().collect();
         assert_eq!(lines.len(), 3);
         assert_eq!(
@@ -332,7 +338,7 @@ mod tests {
         // The message has a comma and quotes: csv quoting keeps it one field.
         assert_eq!(
             lines[2],
-            "b.csv,error,,,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
+            "b.csv,failed,,,input,\"b.csv:3: expected a number, found \"\"x, y\"\"\",,,,,,,,,,,,,,,,,"
         );
         let header_fields = lines[0].split(',').count();
         let mut r = csv::Reader::from_reader(text.as_bytes());
@@ -343,7 +349,8 @@ mod tests {
 
     #[test]
     fn jsonl_is_one_object_per_row_with_nulls_on_errors() {
-        let text = summary_jsonl(&[ok_row("a.csv"), bad_row("b.csv", ErrorKind::Rejected)]);
+        let rows = [row_doc(&ok_row("a.csv")), row_doc(&bad_row("b.csv", ErrorKind::Rejected))];
+        let text = summary_jsonl(&rows);
         let lines: Vec<serde_json::Value> = text
             .lines()
             .map(|l| serde_json::from_str(l).unwrap_or(serde_json::Value::Null))
@@ -351,8 +358,9 @@ mod tests {
         assert_eq!(lines.len(), 2);
         assert_eq!(lines[0]["normalized"]["coulomb"]["ci95"][1].as_f64(), Some(0.034));
         assert_eq!(lines[0]["iterations"].as_u64(), Some(12));
-        assert_eq!(lines[1]["status"], "error");
-        assert_eq!(lines[1]["error_kind"], "rejected");
+        assert_eq!(lines[1]["status"], "failed");
+        assert_eq!(lines[1]["error"]["kind"], "rejected");
+        assert!(lines[0]["error"].is_null());
         assert!(lines[1]["normalized"].is_null() && lines[1]["samples"].is_null());
     }
 }

@@ -1,9 +1,9 @@
 //! The `check --json` document: what the loader and the survey found in one log.
 //!
-//! Times in s (`_s`), angles in rad (`_rad`); one object, no schema tag yet.
+//! Times in s (`_s`), angles in rad (`_rad`); one object.
 //!
-//! ## Wire format
-//! `source`, `samples`, `duration_s`, `rate_hz`, `jitter` (robust interval spread / median),
+//! ## Wire format `swingfit.check.v1`
+//! `schema`, `source`, `samples`, `duration_s`, `rate_hz`, `jitter` (robust interval spread / median),
 //! `gaps` (list of `{start_s, length_s}`), `angle_min_rad`, `angle_max_rad`, `rest_from_s`
 //! (null when the log does not end at rest), `equilibrium_rad`, `period_s` (null when too few
 //! crossings), `period_small_amplitude_s` (T0 with each half cycle corrected for its amplitude),
@@ -20,9 +20,15 @@ use crate::data::slips::SlipKind;
 use crate::data::survey::Survey;
 use crate::data::{AngleLog, segment};
 
+/// Schema tag of the check document (added in the second version of the other schemas; before
+/// it the document had no tag and the same keys).
+pub const CHECK_SCHEMA: &str = "swingfit.check.v1";
+
 /// The `check --json` document: the survey and the motion segmentation of one log.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct CheckDoc {
+    /// `swingfit.check.v1`.
+    pub schema: String,
     /// The log as given.
     pub source: String,
     /// Samples read.
@@ -137,6 +143,7 @@ pub struct GapDoc {
 /// The document of `log` with its survey `s` and segmentation `seg`.
 pub fn check_doc(log: &AngleLog, s: &Survey, seg: &segment::Segmentation) -> CheckDoc {
     CheckDoc {
+        schema: CHECK_SCHEMA.into(),
         source: log.source().to_string(),
         samples: s.samples,
         duration_s: s.duration_s,

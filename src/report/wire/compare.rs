@@ -1,24 +1,27 @@
-//! The comparison document `swingfit.compare.v1` (`compare --json`): every candidate damping set
+//! The comparison document `swingfit.compare.v2` (`compare --json`): every candidate damping set
 //! with its evidence, the verdict, and the measured and model peaks the plots are drawn from.
 //!
-//! ## Wire format `swingfit.compare.v1`
+//! ## Wire format `swingfit.compare.v2`
 //! ```text
-//! { "schema": "swingfit.compare.v1", "best": [..] | null, "explained", "indistinguishable": [[..]],
-//!   "candidates": [ { "damping": [..], "status": "ok" | "failed", "reason"?, "rss", "aic", "bic",
+//! { "schema": "swingfit.compare.v2", "best": [..] | null, "explained", "indistinguishable": [[..]],
+//!   "candidates": [ { "damping": [..], "status": "ok" | "failed",
+//!                     "error": { "kind": "rejected", "message" } | null, "rss", "aic", "bic",
 //!                     "ljung_box_p", "rms_residual", "noise_ratio", "all_significant",
 //!                     "explains_decay", "adequacy"?, "normalized"?, "added_terms": [..],
 //!                     "model_peaks": [[[t, deflection]]] } ],
 //!   "verdict", "selected", "envelope_laws": [[law, rms]], "measured_peaks", "period_points",
 //!   "period_curve" }
 //! ```
-//! Units: rss rad², rms_residual rad, peaks [s, rad], period points [rad, s].
+//! Units: rss rad², rms_residual rad, peaks [s, rad], period points [rad, s]. v1 called the
+//! failure `"reason": "…"` (absent when ok).
 
 use serde::{Deserialize, Serialize};
 
 use super::fit::{AdequacyDoc, Normalized, adequacy_doc, fit_doc};
+use super::{Failure, FailureKind, Status};
 
 /// Schema tag of the comparison JSON.
-pub const COMPARE_SCHEMA: &str = "swingfit.compare.v1";
+pub const COMPARE_SCHEMA: &str = "swingfit.compare.v2";
 
 /// One candidate on the wire.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
@@ -26,10 +29,9 @@ pub struct CandidateDoc {
     /// Damping set.
     pub damping: Vec<String>,
     /// `ok` or `failed`.
-    pub status: String,
-    /// Why the fit failed.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub reason: Option<String>,
+    pub status: Status,
+    /// Why the fit failed (null when it did not).
+    pub error: Option<Failure>,
     /// RSS [rad²].
     #[serde(deserialize_with = "super::real")]
     pub rss: f64,
@@ -82,7 +84,7 @@ pub struct AddedTermDoc {
 /// The comparison document.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct CompareDoc {
-    /// `swingfit.compare.v1`.
+    /// `swingfit.compare.v2`.
     pub schema: String,
     /// The chosen set; null when no candidate explains the decay.
     pub best: Option<Vec<String>>,
@@ -121,8 +123,12 @@ pub fn compare_doc(c: &crate::fit::compare::Comparison) -> CompareDoc {
             .iter()
             .map(|e| CandidateDoc {
                 damping: super::names(e.damping),
-                status: if e.fit.is_ok() { "ok" } else { "failed" }.into(),
-                reason: e.fit.as_ref().err().map(|x| x.to_string()),
+                status: if e.fit.is_ok() { Status::Ok } else { Status::Failed },
+                error: e
+                    .fit
+                    .as_ref()
+                    .err()
+                    .map(|x| Failure { kind: FailureKind::Rejected, message: x.to_string() }),
                 rss: e.rss,
                 aic: e.aic,
                 bic: e.bic,

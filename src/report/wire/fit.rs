@@ -3,37 +3,25 @@
 //! verdict. Built from a `FitOutcome` by [`fit_doc`]; read back by `serde` (and, in part, by
 //! [`super::params`]).
 //!
-//! ## Wire format `swingfit.fit.v1`
+//! ## Wire format `swingfit.fit.v2`
 //! ```text
-//! { "schema": "swingfit.fit.v1",
+//! { "schema": "swingfit.fit.v2",
 //!   "damping": ["viscous", "coulomb"],            fitted terms, canonical order
-//!   "normalized": { "omega_n": P, "viscous": P, "coulomb": P, "quadratic": P },   per unit inertia
-//!   "physical":   { "inertia_pivot": P, "inertia_cg": P, "radius_gyration_pivot": P,
-//!                   "radius_gyration_cg": P, "equivalent_length": P,
-//!                   "viscous": P, "coulomb": P, "quadratic": P },  only with mass and pivot-to-CG
+//!   "normalized": { "omega_n": E, "viscous": E, "coulomb": E, "quadratic": E, "presliding": E },
+//!   "physical":   { "inertia_pivot": X, "inertia_cg": X, "radius_gyration_pivot": X, …,
+//!                   "viscous": X, "coulomb": X, … },            only with mass and pivot-to-CG
 //!   "gravity": { "value": g, "std": u, "source": "…" },           only with `physical`
-//!   "runs": [ { "file", "samples", "equilibrium": P, "initial_angle": P, "initial_velocity": P,
+//!   "runs": [ { "file", "samples", "equilibrium": E, "initial_angle": E, "initial_velocity": E,
 //!               "rms_residual", "noise_floor", "ljung_box_p" } ],
-//!   "fit": { "converged", "iterations", "iterations_total", "rss", "dof", "samples",
-//!            "convergence", "condition_number", "interval_method", "t95" },
-//!   "correlation": { "names": […], "matrix": [[…]] },
-//!   "vector": { "fitted": […], "start": […] },      parameter vectors in correlation.names order
-//!   "flags": ["…"],
-//!   "budget": [ { "quantity", "value", "unit", "std",                 only with `physical`
-//!                 "inputs": [ { "input", "value", "unit", "std", "sensitivity",
-//!                               "sensitivity_unit", "contribution", "share" } ],
-//!                 "correlations": [ { "a", "b", "r", "term", "term_unit", "share" } ] } ],
-//!   "adequacy": { "verdict": "explained" | "approximate" | "not_explained", "sensor_like",
-//!                 "time_base_slips", "summary", "noise_ratio", "whiteness_p", "swing_locked", "amplitude_error",
-//!                 "duration_error", "runs": [ { same figures per run, "lag1", "half_cycles" } ] },
-//!   "damping_choice": "…",                         how the set was chosen, in words
-//!   "inputs": { "mass": I, "pivot_to_cg": I, "gravity": I } }   only with `physical`
-//! I = { "value", "std", "unit", "stated": bool, "note": "taken as exact…" | null }
-//! P = { "value": x, "std": u, "ci95": [lo, hi], "unit": "…" }   (physical P also has "expanded_k2")
+//!   "fit": { … }, "correlation": { "names", "matrix" }, "vector": { "fitted", "start" },
+//!   "flags": ["…"], "budget": [ … ], "adequacy": { … }, "damping_choice": "…",
+//!   "inputs": { "mass": I, "pivot_to_cg": I, "gravity": I } }
+//! E = { "value", "std", "ci95": [lo, hi], "unit" }                        (`Estimated`)
+//! X = { "value", "std", "expanded", "coverage_factor", "unit" }           (`Expanded`, U = k·u_c)
 //! ```
-//! Units: omega_n rad/s; normalized viscous 1/s, coulomb rad/s², quadratic 1/rad; physical inertia
-//! kg·m², viscous N·m·s/rad, coulomb N·m, quadratic N·m·s²/rad²; angles rad; velocity rad/s; rss rad².
-//! Terms not fitted are absent. `swingfit simulate --params` reads this file back.
+//! Every key, with its unit, is in docs/schemas.md. Terms not fitted are absent. v1 wrote the
+//! physical values as `{ "value", "std", "ci95", "unit", "expanded_k2" }`, with a `ci95` that
+//! was value ± U; [`super::params`] still reads v1 files.
 
 use serde::{Deserialize, Serialize};
 
@@ -42,118 +30,166 @@ use crate::model::Term;
 use crate::physical::PhysicalCoefficients;
 
 /// Schema tag of the fit JSON.
-pub const FIT_SCHEMA: &str = "swingfit.fit.v1";
+pub const FIT_SCHEMA: &str = "swingfit.fit.v2";
 
-/// A value with its uncertainty, on the wire.
+/// The previous fit schema, still read by [`super::params`] (`physical` values carried `ci95`
+/// and `expanded_k2` where v2 has `expanded` and `coverage_factor`).
+pub const FIT_SCHEMA_V1: &str = "swingfit.fit.v1";
+
+/// A fitted value with its standard uncertainty and its 95 % interval (the fit's coverage
+/// factor `t95`, or the bootstrap's percentiles): every per-unit-inertia and per-run value.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
-pub struct P {
+pub struct Estimated {
     /// Best estimate.
     #[serde(deserialize_with = "super::real")]
     pub value: f64,
     /// Standard uncertainty.
     #[serde(deserialize_with = "super::real")]
     pub std: f64,
-    /// 95 % interval (for physical values: value ± expanded uncertainty, k = 2).
+    /// 95 % interval [lo, hi].
     pub ci95: [f64; 2],
     /// SI unit.
     pub unit: String,
-    /// Expanded uncertainty U = k·u with k = 2 (physical values only).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub expanded_k2: Option<f64>,
 }
 
-impl From<&Estimate> for P {
-    fn from(e: &Estimate) -> P {
-        P {
+impl From<&Estimate> for Estimated {
+    fn from(e: &Estimate) -> Estimated {
+        Estimated {
             value: e.value,
             std: e.std,
             ci95: [e.ci95.0, e.ci95.1],
             unit: e.unit.to_string(),
-            expanded_k2: None,
         }
     }
 }
 
-impl From<&crate::physical::Quantity> for P {
-    fn from(q: &crate::physical::Quantity) -> P {
-        P {
+/// A physical value with its GUM combined standard uncertainty and its expanded uncertainty
+/// U = k·u_c (k = 2; the interval is value ± U): every value of the `physical` block.
+#[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
+pub struct Expanded {
+    /// Best estimate.
+    #[serde(deserialize_with = "super::real")]
+    pub value: f64,
+    /// Combined standard uncertainty u_c.
+    #[serde(deserialize_with = "super::real")]
+    pub std: f64,
+    /// Expanded uncertainty U = k·u_c.
+    #[serde(deserialize_with = "super::real")]
+    pub expanded: f64,
+    /// Coverage factor k.
+    pub coverage_factor: f64,
+    /// SI unit.
+    pub unit: String,
+}
+
+impl From<&crate::physical::Quantity> for Expanded {
+    fn from(q: &crate::physical::Quantity) -> Expanded {
+        Expanded {
             value: q.value,
             std: q.u_c,
-            ci95: [q.value - q.expanded, q.value + q.expanded],
+            expanded: q.expanded,
+            coverage_factor: q.k,
             unit: q.unit.to_string(),
-            expanded_k2: Some(q.expanded),
         }
     }
 }
 
-/// Per-unit-inertia block.
+/// The coefficients per unit inertia, as the free decay identifies them.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Normalized {
-    /// ωn.
-    pub omega_n: P,
-    /// b1.
+    /// Natural frequency ωn (small amplitude) [rad/s].
+    pub omega_n: Estimated,
+    /// Viscous b1 = c/J [1/s].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub viscous: Option<P>,
-    /// b0.
+    pub viscous: Option<Estimated>,
+    /// Coulomb b0 = τc/J [rad/s²].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub coulomb: Option<P>,
-    /// b2.
+    pub coulomb: Option<Estimated>,
+    /// Quadratic b2 = cq/J [1/rad].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub quadratic: Option<P>,
+    pub quadratic: Option<Estimated>,
     /// Pre-sliding stiffness σ of the Coulomb friction [1/s²].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub presliding: Option<P>,
+    pub presliding: Option<Estimated>,
     /// Stribeck excess bs of the friction at rest over b0 [rad/s²].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub stribeck: Option<P>,
+    pub stribeck: Option<Estimated>,
     /// Stribeck velocity vs [rad/s].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub stribeck_velocity: Option<P>,
+    pub stribeck_velocity: Option<Estimated>,
 }
 
-/// Physical block.
+/// The physical coefficients, with the stated mass, pivot-to-CG distance and gravity.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct Physical {
-    /// J about the pivot.
-    pub inertia_pivot: P,
-    /// J about the centre of gravity.
-    pub inertia_cg: P,
-    /// √(J/m).
-    pub radius_gyration_pivot: P,
-    /// √(Jcg/m) (absent when J_cg comes out negative: d or m inconsistent with the fit).
+    /// J about the pivot [kg·m²].
+    pub inertia_pivot: Expanded,
+    /// Jcg = J − m d² about the centre of gravity [kg·m²].
+    pub inertia_cg: Expanded,
+    /// Radius of gyration about the pivot √(J/m) [m].
+    pub radius_gyration_pivot: Expanded,
+    /// Radius of gyration about the CG √(Jcg/m) [m] (absent when J_cg comes out negative: d or m inconsistent with the fit).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub radius_gyration_cg: Option<P>,
-    /// Small-amplitude period T0.
-    pub period: P,
-    /// Viscous damping ratio ζ = b1/(2ωn).
+    pub radius_gyration_cg: Option<Expanded>,
+    /// Small-amplitude period T0 [s].
+    pub period: Expanded,
+    /// Viscous damping ratio ζ = b1/(2ωn) [1].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub damping_ratio: Option<P>,
-    /// Logarithmic decrement of the viscous term.
+    pub damping_ratio: Option<Expanded>,
+    /// Logarithmic decrement of the viscous term [1].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub log_decrement: Option<P>,
-    /// Quality factor 1/(2ζ).
+    pub log_decrement: Option<Expanded>,
+    /// Quality factor 1/(2ζ) [1].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub quality_factor: Option<P>,
-    /// J/(m d).
-    pub equivalent_length: P,
-    /// c.
+    pub quality_factor: Option<Expanded>,
+    /// Equivalent simple-pendulum length J/(m d) [m].
+    pub equivalent_length: Expanded,
+    /// Viscous c [N·m·s/rad].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub viscous: Option<P>,
-    /// τc.
+    pub viscous: Option<Expanded>,
+    /// Coulomb friction torque τc [N·m].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub coulomb: Option<P>,
-    /// cq.
+    pub coulomb: Option<Expanded>,
+    /// Quadratic cq [N·m·s²/rad²].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub quadratic: Option<P>,
+    pub quadratic: Option<Expanded>,
     /// k = σ·J, pre-sliding stiffness of the pivot friction [N·m/rad].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub presliding: Option<P>,
+    pub presliding: Option<Expanded>,
     /// τs − τc = bs·J, Stribeck excess torque [N·m].
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub stribeck: Option<P>,
+    pub stribeck: Option<Expanded>,
     /// Stribeck velocity vs [rad/s] (not scaled by J).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub stribeck_velocity: Option<P>,
+    pub stribeck_velocity: Option<Expanded>,
+}
+
+impl Normalized {
+    /// The block's value of a damping term, if fitted.
+    pub fn term(&self, t: Term) -> Option<&Estimated> {
+        match t {
+            Term::Viscous => self.viscous.as_ref(),
+            Term::Coulomb => self.coulomb.as_ref(),
+            Term::Quadratic => self.quadratic.as_ref(),
+            Term::Presliding => self.presliding.as_ref(),
+            Term::Stribeck => self.stribeck.as_ref(),
+            Term::StribeckVelocity => self.stribeck_velocity.as_ref(),
+        }
+    }
+}
+
+impl Physical {
+    /// The block's value of a damping term, if fitted.
+    pub fn term(&self, t: Term) -> Option<&Expanded> {
+        match t {
+            Term::Viscous => self.viscous.as_ref(),
+            Term::Coulomb => self.coulomb.as_ref(),
+            Term::Quadratic => self.quadratic.as_ref(),
+            Term::Presliding => self.presliding.as_ref(),
+            Term::Stribeck => self.stribeck.as_ref(),
+            Term::StribeckVelocity => self.stribeck_velocity.as_ref(),
+        }
+    }
 }
 
 /// Gravity used.
@@ -177,11 +213,11 @@ pub struct Run {
     /// Samples fitted.
     pub samples: usize,
     /// θeq.
-    pub equilibrium: P,
+    pub equilibrium: Estimated,
     /// θ at the first sample.
-    pub initial_angle: P,
+    pub initial_angle: Estimated,
     /// ω at the first sample.
-    pub initial_velocity: P,
+    pub initial_velocity: Estimated,
     /// RMS residual [rad].
     #[serde(deserialize_with = "super::real")]
     pub rms_residual: f64,
@@ -376,7 +412,7 @@ pub fn inputs_doc(a: &crate::physical::ArticleInputs) -> InputsDoc {
 /// The whole fit document.
 #[derive(Serialize, Deserialize, Debug, Clone, PartialEq)]
 pub struct FitDoc {
-    /// `swingfit.fit.v1`.
+    /// `swingfit.fit.v2`.
     pub schema: String,
     /// Fitted terms.
     pub damping: Vec<String>,
@@ -518,14 +554,36 @@ pub fn budget_doc(b: &crate::physical::budget::Budget) -> BudgetDoc {
     }
 }
 
+/// The `physical` block of the physical coefficients.
+pub fn physical_doc(p: &PhysicalCoefficients) -> Physical {
+    let damping = |t: Term| p.damping[t.index()].as_ref().map(Expanded::from);
+    Physical {
+        inertia_pivot: Expanded::from(&p.inertia_pivot),
+        inertia_cg: Expanded::from(&p.inertia_cg),
+        radius_gyration_pivot: Expanded::from(&p.gyration_pivot),
+        radius_gyration_cg: p.gyration_cg.as_ref().map(Expanded::from),
+        equivalent_length: Expanded::from(&p.equivalent_length),
+        period: Expanded::from(&p.period),
+        damping_ratio: p.damping_ratio.as_ref().map(Expanded::from),
+        log_decrement: p.log_decrement.as_ref().map(Expanded::from),
+        quality_factor: p.quality_factor.as_ref().map(Expanded::from),
+        viscous: damping(Term::Viscous),
+        coulomb: damping(Term::Coulomb),
+        quadratic: damping(Term::Quadratic),
+        presliding: damping(Term::Presliding),
+        stribeck: damping(Term::Stribeck),
+        stribeck_velocity: damping(Term::StribeckVelocity),
+    }
+}
+
 /// Build the wire document of a fit.
 pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> FitDoc {
-    let term = |t: Term| fit.term(t).map(P::from);
+    let term = |t: Term| fit.term(t).map(Estimated::from);
     FitDoc {
         schema: FIT_SCHEMA.into(),
         damping: super::names(fit.damping),
         normalized: Normalized {
-            omega_n: P::from(&fit.omega_n),
+            omega_n: Estimated::from(&fit.omega_n),
             viscous: term(Term::Viscous),
             coulomb: term(Term::Coulomb),
             quadratic: term(Term::Quadratic),
@@ -533,23 +591,7 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             stribeck: term(Term::Stribeck),
             stribeck_velocity: term(Term::StribeckVelocity),
         },
-        physical: physical.map(|p| Physical {
-            inertia_pivot: P::from(&p.inertia_pivot),
-            inertia_cg: P::from(&p.inertia_cg),
-            radius_gyration_pivot: P::from(&p.gyration_pivot),
-            radius_gyration_cg: p.gyration_cg.as_ref().map(P::from),
-            equivalent_length: P::from(&p.equivalent_length),
-            period: P::from(&p.period),
-            damping_ratio: p.damping_ratio.as_ref().map(P::from),
-            log_decrement: p.log_decrement.as_ref().map(P::from),
-            quality_factor: p.quality_factor.as_ref().map(P::from),
-            viscous: p.damping[Term::Viscous.index()].as_ref().map(P::from),
-            coulomb: p.damping[Term::Coulomb.index()].as_ref().map(P::from),
-            quadratic: p.damping[Term::Quadratic.index()].as_ref().map(P::from),
-            presliding: p.damping[Term::Presliding.index()].as_ref().map(P::from),
-            stribeck: p.damping[Term::Stribeck.index()].as_ref().map(P::from),
-            stribeck_velocity: p.damping[Term::StribeckVelocity.index()].as_ref().map(P::from),
-        }),
+        physical: physical.map(physical_doc),
         gravity: physical.map(|p| Gravity {
             value: p.gravity.value,
             std: p.gravity.u,
@@ -561,9 +603,9 @@ pub fn fit_doc(fit: &FitOutcome, physical: Option<&PhysicalCoefficients>) -> Fit
             .map(|r| Run {
                 file: r.source.clone(),
                 samples: r.samples,
-                equilibrium: P::from(&r.equilibrium),
-                initial_angle: P::from(&r.initial_angle),
-                initial_velocity: P::from(&r.initial_velocity),
+                equilibrium: Estimated::from(&r.equilibrium),
+                initial_angle: Estimated::from(&r.initial_angle),
+                initial_velocity: Estimated::from(&r.initial_velocity),
                 rms_residual: r.rms_residual,
                 noise_floor: r.noise_floor,
                 ljung_box_p: r.ljung_box_p,

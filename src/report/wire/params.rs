@@ -20,7 +20,7 @@ use serde::{Deserialize, Deserializer};
 use crate::model::{Physics, Release, Term};
 
 /// The fit document versions this reader takes.
-pub const FIT_SCHEMAS: [&str; 1] = [super::fit::FIT_SCHEMA];
+pub const FIT_SCHEMAS: [&str; 2] = [super::fit::FIT_SCHEMA_V1, super::fit::FIT_SCHEMA];
 
 /// A params file that could not be used: the file and what was wrong.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
