@@ -273,7 +273,72 @@ pub struct LoadError {
     /// 1-based line, when one line is at fault.
     pub line: Option<u64>,
     /// What went wrong.
-    pub kind: String,
+    pub kind: LoadErrorKind,
+}
+
+/// What went wrong in loading a log, by kind; each prints as one lowercase line saying what
+/// was found and what was expected.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum LoadErrorKind {
+    /// The file could not be read.
+    #[error("cannot read file: {0}")]
+    Io(String),
+    /// No table found: empty file, no header, a single column, no data rows.
+    #[error("{0}")]
+    Layout(String),
+    /// The time or angle column is missing, ambiguous or not there.
+    #[error("{0}")]
+    Column(String),
+    /// A unit is missing, unknown or contradicted (including the signal calibration).
+    #[error("{0}")]
+    Unit(String),
+    /// A loader option (or run key) is unusable or clashes with another.
+    #[error("{0}")]
+    Option(String),
+    /// A field is not a number or timestamp, not finite, or a row is too short.
+    #[error("{0}")]
+    Value(String),
+    /// A row repeats the time before (rounded times or a repeated sample).
+    #[error("{0}")]
+    RepeatedTime(String),
+    /// A time is not after the one before.
+    #[error(
+        "time {time} s is not after {previous} s ({what} {previous_line}): expected strictly increasing time"
+    )]
+    NotIncreasing {
+        /// The time at fault [s].
+        time: f64,
+        /// The time before it [s].
+        previous: f64,
+        /// `line` or `sample`: what `previous_line` counts.
+        what: &'static str,
+        /// Line (or sample) of the time before.
+        previous_line: u64,
+    },
+    /// Fewer than [`MIN_SAMPLES`] samples.
+    #[error("only {found} samples: expected at least {MIN_SAMPLES} to fit a swing")]
+    TooFewSamples {
+        /// Samples found.
+        found: usize,
+    },
+    /// Fewer than [`MIN_MIDLINE_CROSSINGS`] midline crossings.
+    #[error(
+        "angle crosses its midline only {crossings} times: expected at least two swings ({MIN_MIDLINE_CROSSINGS} crossings)"
+    )]
+    TooFewSwings {
+        /// Midline crossings found.
+        crossings: usize,
+    },
+    /// The swing is not one a rig logs in the units read (a likely unit mix-up).
+    #[error("{0}")]
+    Implausible(String),
+    /// A `--from`/`--to` window is outside the log or leaves too little.
+    #[error("{0}")]
+    Window(String),
+    /// No free motion: at rest or driven throughout.
+    #[error("{0}")]
+    NoFreeMotion(String),
 }
 
 /// Read and validate the log at `path`.
@@ -282,7 +347,7 @@ pub fn load(path: &Path, opts: &LoadOptions) -> Result<AngleLog, LoadError> {
     let bytes = std::fs::read(path).map_err(|e| LoadError {
         path: name.clone(),
         line: None,
-        kind: format!("cannot read file: {}", e.to_string().to_lowercase()),
+        kind: LoadErrorKind::Io(e.to_string().to_lowercase()),
     })?;
     parse(&name, &bytes, opts)
 }
@@ -349,7 +414,11 @@ pub const MIN_SAMPLES_PER_PERIOD: f64 = 2.0;
 /// unit mix-up and how to state the right unit. Units are never guessed: this only refuses.
 fn plausible(name: &str, t: &read::Table) -> Result<(), LoadError> {
     use crate::units::{AngleUnit, TimeUnit};
-    let err = |kind: String| LoadError { path: name.to_string(), line: None, kind };
+    let err = |what: String| LoadError {
+        path: name.to_string(),
+        line: None,
+        kind: LoadErrorKind::Implausible(what),
+    };
     let crossings = midline_crossing_times(&t.times, &t.angles);
     if let (Some(first), Some(last)) = (crossings.first(), crossings.last())
         && crossings.len() >= 2
@@ -513,54 +582,49 @@ fn validate(
     lines: &[u64],
     what: &str,
 ) -> Result<(), LoadError> {
-    let err = |line: Option<u64>, kind: String| LoadError { path: source.to_string(), line, kind };
+    let err =
+        |line: Option<u64>, kind: LoadErrorKind| LoadError { path: source.to_string(), line, kind };
     if times.len() != angles.len() {
         return Err(err(
             None,
-            format!(
+            LoadErrorKind::Value(format!(
                 "expected as many angles as times, found {} times and {} angles",
                 times.len(),
                 angles.len()
-            ),
+            )),
         ));
     }
     let line_of = |i: usize| lines.get(i).copied().unwrap_or(i as u64 + 1);
     for (i, (&t, &a)) in times.iter().zip(angles).enumerate() {
         if !t.is_finite() {
-            return Err(err(Some(line_of(i)), format!("expected a finite time, found {t}")));
+            let what = format!("expected a finite time, found {t}");
+            return Err(err(Some(line_of(i)), LoadErrorKind::Value(what)));
         }
         if !a.is_finite() {
-            return Err(err(Some(line_of(i)), format!("expected a finite angle, found {a}")));
+            let what = format!("expected a finite angle, found {a}");
+            return Err(err(Some(line_of(i)), LoadErrorKind::Value(what)));
         }
     }
     for i in 1..times.len() {
         if times[i] <= times[i - 1] {
             return Err(err(
                 Some(line_of(i)),
-                format!(
-                    "time {} s is not after {} s ({what} {}): expected strictly increasing time",
-                    times[i],
-                    times[i - 1],
-                    line_of(i - 1)
-                ),
+                LoadErrorKind::NotIncreasing {
+                    time: times[i],
+                    previous: times[i - 1],
+                    what: if what == "sample" { "sample" } else { "line" },
+                    previous_line: line_of(i - 1),
+                },
             ));
         }
     }
     if times.len() < MIN_SAMPLES {
         let line = if times.is_empty() { None } else { Some(line_of(times.len() - 1)) };
-        return Err(err(
-            line,
-            format!("only {} samples: expected at least {MIN_SAMPLES} to fit a swing", times.len()),
-        ));
+        return Err(err(line, LoadErrorKind::TooFewSamples { found: times.len() }));
     }
     let n = midline_crossings(angles);
     if n < MIN_MIDLINE_CROSSINGS {
-        return Err(err(
-            None,
-            format!(
-                "angle crosses its midline only {n} times: expected at least two swings ({MIN_MIDLINE_CROSSINGS} crossings)"
-            ),
-        ));
+        return Err(err(None, LoadErrorKind::TooFewSwings { crossings: n }));
     }
     Ok(())
 }

@@ -19,7 +19,7 @@ use names::{
     split_header, unit_token, unitless,
 };
 
-use super::{Layout, LoadError, LoadOptions, RateSource, TimeBase};
+use super::{Layout, LoadError, LoadErrorKind as K, LoadOptions, RateSource, TimeBase};
 use crate::units::{AngleUnit, TimeUnit};
 
 /// Columns read from a file, in SI units, with the file line of every sample.
@@ -48,9 +48,13 @@ enum Clock {
 
 /// Read the columns of a log. Does not check ordering or length (the caller validates).
 pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table, LoadError> {
-    let err = |line: Option<u64>, kind: String| LoadError { path: name.to_string(), line, kind };
+    let err = |k: fn(String) -> K, line: Option<u64>, what: String| LoadError {
+        path: name.to_string(),
+        line,
+        kind: k(what),
+    };
     if opts.signal_zero.is_some() && opts.signal_scale.is_none() {
-        return Err(err(
+        return Err(err(K::Option,
             None,
             "--signal-zero is the reading at zero angle of a calibrated signal: expected --signal-scale with it".into(),
         ));
@@ -58,7 +62,11 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let text = String::from_utf8_lossy(bytes);
     let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
     if text.trim().is_empty() {
-        return Err(err(Some(1), "empty file: expected a header row and data rows".into()));
+        return Err(err(
+            K::Layout,
+            Some(1),
+            "empty file: expected a header row and data rows".into(),
+        ));
     }
     // (1-based line number, byte offset, content) of every line; then those that are not blank
     // or a comment, and not among the first `--skip-lines`.
@@ -88,7 +96,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         } else {
             "only comments: expected a header row and data rows".into()
         };
-        return Err(err(Some(last_line), kind));
+        return Err(err(K::Layout, Some(last_line), kind));
     }
     let start = match opts.skip_lines {
         Some(_)
@@ -115,6 +123,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         (Some(hz), _) if hz.is_finite() && hz > 0.0 => Some((hz, RateSource::Option)),
         (Some(hz), _) => {
             return Err(err(
+                K::Option,
                 None,
                 format!(
                     "--rate {hz} is not a sample rate: expected a positive number of samples per second"
@@ -126,6 +135,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         }
         (None, Some(s)) => {
             return Err(err(
+                K::Value,
                 Some(s.line),
                 format!(
                     "'{}' states a sample rate of {}: expected a positive number of samples per second (or give --rate HZ)",
@@ -143,7 +153,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         Start::Bare(i) => {
             let bline = content[i].0;
             let Some((hz, _)) = rate else {
-                return Err(err(
+                return Err(err(K::Layout,
                     Some(bline),
                     "rows of one number each with no header above them: expected a sample rate (--rate HZ, or a preamble line naming sample_rate) and the angle unit (--angle-unit)".into(),
                 ));
@@ -162,6 +172,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 None if rate.is_some() => Delim::Whitespace,
                 None => {
                     return Err(err(
+                        K::Layout,
                         Some(hline),
                         format!(
                             "header \"{}\" is a single column: expected time and angle columns separated by commas, semicolons, tabs or spaces (or one angle column with --rate HZ)",
@@ -187,6 +198,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let bare = matches!(start, Start::Bare(_));
     if !bare && header.iter().all(|h| number(h, delim).is_some()) {
         return Err(err(
+            K::Layout,
             Some(hline),
             "expected a header row naming the columns, found only numbers".into(),
         ));
@@ -199,6 +211,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         Some(_) if opts.rate_hz.is_some() || bare => {
             if let Some(c) = &opts.time_col {
                 return Err(err(
+                    K::Option,
                     None,
                     format!(
                         "--time-col {c} and {} both give the times: choose one",
@@ -239,8 +252,9 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                     });
                     SIGNAL_NAMES.contains(&name.as_str())
                 })
+                && let K::Column(s) = &mut e.kind
             {
-                e.kind.push_str(
+                s.push_str(
                     "; a signal proportional to the angle (a voltage) is read with --signal-scale VALUE[UNIT]/deg (e.g. 0.05V/deg) and --signal-zero",
                 );
             }
@@ -249,6 +263,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     };
     if ti == Some(ai) {
         return Err(err(
+            K::Column,
             Some(hline),
             format!("time and angle are both column {}: expected two different columns", ai + 1),
         ));
@@ -287,6 +302,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         (Some(ti), _) if let Some((first, _)) = first_stamp => {
             if let Some(u) = &opts.time_unit {
                 return Err(err(
+                    K::Option,
                     None,
                     format!(
                         "--time-unit {u} is for times in numbers, but column '{tname}' holds timestamps: drop the option"
@@ -299,7 +315,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             ti,
             match opts.time_unit.as_deref() {
                 Some(u) => TimeUnit::parse(u).ok_or_else(|| {
-                    err(None, format!("unknown time unit '{u}': expected s, ms or us"))
+                    err(K::Unit, None, format!("unknown time unit '{u}': expected s, ms or us"))
                 })?,
                 None => match (tunit_h, row_units.0) {
                     (Some(HeaderUnit::Time(u)), _) | (_, Some(u)) => u,
@@ -307,6 +323,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                     _ => {
                         let (stem, why) = unitless(tname);
                         return Err(err(
+                            K::Unit,
                             Some(hline),
                             format!(
                                 "time column '{tname}' {why}: name it {stem}_s, {stem}_ms or {stem}_us, or give --time-unit s|ms|us"
@@ -329,6 +346,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         };
         if let Some(c) = clash {
             return Err(err(
+                K::Option,
                 None,
                 format!("--signal-scale {sc} and {c} both say how to read the angle: choose one"),
             ));
@@ -342,6 +360,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             && w != u
         {
             return Err(err(
+                K::Unit,
                 Some(hline),
                 format!(
                     "angle column '{}' is in {w}, but --signal-scale {sc} is per {u}: give the scale in {w} per angle unit",
@@ -353,10 +372,14 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     let angle_unit = match opts.angle_unit.as_deref() {
         _ if let Some(sc) = signal => sc.angle_unit,
         Some(u) => AngleUnit::parse(u).ok_or_else(|| {
-            err(None, format!("unknown angle unit '{u}': expected rad, mrad, deg, grad or counts"))
+            err(
+                K::Unit,
+                None,
+                format!("unknown angle unit '{u}': expected rad, mrad, deg, grad or counts"),
+            )
         })?,
         None if bare => {
-            return Err(err(
+            return Err(err(K::Unit,
                 Some(hline),
                 "one column of angles with no header: expected its unit, --angle-unit rad|mrad|deg|grad|counts".into(),
             ));
@@ -370,6 +393,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
             _ => {
                 let (stem, why) = unitless(&header[ai]);
                 return Err(err(
+                    K::Unit,
                     Some(hline),
                     format!(
                         "angle column '{}' {why}: name it {stem}_rad or {stem}_deg (or _mrad, _grad, _counts), or give --angle-unit rad|mrad|deg|grad|counts",
@@ -385,6 +409,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         None => {
             return Err(match opts.counts_per_rev {
                 None => err(
+                    K::Unit,
                     Some(hline),
                     format!(
                         "angle column '{}' is in encoder counts: expected --counts-per-rev N (edges per revolution; quadrature gives 4 per line)",
@@ -392,6 +417,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                     ),
                 ),
                 Some(n) => err(
+                    K::Option,
                     None,
                     format!(
                         "--counts-per-rev {n} is not usable: expected a positive number of edges per revolution"
@@ -403,12 +429,14 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     if let Some(b) = opts.counts_wrap {
         if !WRAP_BITS.contains(&b) {
             return Err(err(
+                K::Option,
                 None,
                 format!("--counts-wrap {b} is not a counter width: expected 8, 16, 24 or 32 bits"),
             ));
         }
         if angle_unit != AngleUnit::Counts {
             return Err(err(
+                K::Option,
                 Some(hline),
                 format!(
                     "--counts-wrap is for encoder counts, but angle column '{}' is in {angle_unit}: drop the option or give --angle-unit counts",
@@ -440,7 +468,11 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
     };
     let zero = opts.signal_zero.unwrap_or(0.0);
     if !zero.is_finite() {
-        return Err(err(None, format!("--signal-zero {zero}: expected a finite reading")));
+        return Err(err(
+            K::Option,
+            None,
+            format!("--signal-zero {zero}: expected a finite reading"),
+        ));
     }
     let angle_in = match signal {
         Some(sc) => sc.signal_unit.clone().unwrap_or_else(|| "signal units".into()),
@@ -507,12 +539,12 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 decimals.push(dec);
             }
             Err(_) if opts.drop_bad_rows => table.dropped_lines.push(*line),
-            Err(kind) => return Err(err(Some(*line), kind)),
+            Err(kind) => return Err(err(K::Value, Some(*line), kind)),
         }
     }
     if angle_unit == AngleUnit::Counts {
         unwrap_counts(&mut table.angles, &table.lines, opts.counts_wrap)
-            .map_err(|(line, kind)| err(Some(line), kind))?;
+            .map_err(|(line, kind)| err(K::Value, Some(line), kind))?;
     }
     for a in &mut table.angles {
         *a *= to_rad;
@@ -524,7 +556,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
         };
         table.layout.repeated_times =
             duplicates::resolve(&mut table, &decimals, unit_s, opts.duplicate_times)
-                .map_err(|(line, kind)| err(Some(line), kind))?;
+                .map_err(|(line, kind)| err(K::RepeatedTime, Some(line), kind))?;
     }
     if table.times.is_empty() {
         let kind = if table.dropped_lines.is_empty() {
@@ -535,7 +567,7 @@ pub(super) fn read(name: &str, bytes: &[u8], opts: &LoadOptions) -> Result<Table
                 table.dropped_lines.len()
             )
         };
-        return Err(err(Some(last_line.max(hline)), kind));
+        return Err(err(K::Layout, Some(last_line.max(hline)), kind));
     }
     Ok(table)
 }

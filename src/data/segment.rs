@@ -36,7 +36,9 @@
 use nalgebra::{SMatrix, SVector};
 
 use super::survey::Survey;
-use super::{AngleLog, LoadError, MIN_MIDLINE_CROSSINGS, MIN_SAMPLES, midline_crossings};
+use super::{
+    AngleLog, LoadError, LoadErrorKind, MIN_MIDLINE_CROSSINGS, MIN_SAMPLES, midline_crossings,
+};
 
 /// A half cycle whose acceleration misfit exceeds this fraction of the predicted RMS
 /// acceleration is forced (a free swing of a clean rig stays under a few per cent: damping is in
@@ -593,25 +595,35 @@ pub fn free_runs(log: &AngleLog, window: Window) -> Result<FreeRuns, LoadError> 
     let t = log.times();
     let n = t.len();
     let (t_first, t_last) = (t[0], t[n - 1]);
-    let err = |kind: String| LoadError { path: log.source().to_string(), line: None, kind };
+    let err = |k: fn(String) -> LoadErrorKind, what: String| LoadError {
+        path: log.source().to_string(),
+        line: None,
+        kind: k(what),
+    };
     let range = format!("the log runs from {t_first:.3} s to {t_last:.3} s");
     for (flag, v) in [("--from", window.from_s), ("--to", window.to_s)] {
         if let Some(v) = v
             && (!v.is_finite() || v < t_first || v > t_last)
         {
-            return Err(err(format!("{flag} {v} s is outside the log: {range}")));
+            return Err(err(
+                LoadErrorKind::Window,
+                format!("{flag} {v} s is outside the log: {range}"),
+            ));
         }
     }
     if let (Some(a), Some(b)) = (window.from_s, window.to_s)
         && a >= b
     {
-        return Err(err(format!("--from {a} s is not before --to {b} s: {range}")));
+        return Err(err(
+            LoadErrorKind::Window,
+            format!("--from {a} s is not before --to {b} s: {range}"),
+        ));
     }
     let a = window.from_s.map_or(0, |v| t.partition_point(|x| *x < v));
     let b = window.to_s.map_or(n, |v| t.partition_point(|x| *x <= v));
     let windowed = if a > 0 || b < n {
         log.slice(a, b, log.source().to_string()).map_err(|e| {
-            err(format!(
+            err(LoadErrorKind::Window, format!(
                 "--from/--to leave {} samples from {:.3} s to {:.3} s, under two swings ({}): {range}",
                 b.saturating_sub(a),
                 t.get(a).copied().unwrap_or(t_first),
@@ -637,7 +649,10 @@ pub fn free_runs(log: &AngleLog, window: Window) -> Result<FreeRuns, LoadError> 
             segments.iter().find(|g| g.end > start).map_or(windowed.len(), |g| g.end)
         };
         if end <= start + 1 {
-            return Err(err(format!("--from/--to leave no free swing: {range}")));
+            return Err(err(
+                LoadErrorKind::Window,
+                format!("--from/--to leave no free swing: {range}"),
+            ));
         }
         let first = segments.first().cloned();
         segments = vec![Segment {
@@ -657,7 +672,10 @@ pub fn free_runs(log: &AngleLog, window: Window) -> Result<FreeRuns, LoadError> 
             },
         }];
     } else if let Some(why) = &seg.refusal {
-        return Err(err(format!("{why}: {range}; choose a window with --from/--to")));
+        return Err(err(
+            LoadErrorKind::NoFreeMotion,
+            format!("{why}: {range}; choose a window with --from/--to"),
+        ));
     }
     let many = segments.len() > 1;
     let mut runs = Vec::new();
@@ -671,10 +689,13 @@ pub fn free_runs(log: &AngleLog, window: Window) -> Result<FreeRuns, LoadError> 
             AngleLog { source: name, ..windowed.clone() }
         } else {
             windowed.slice(g.start, g.end, name).map_err(|e| {
-                err(format!(
-                    "the free swing from {:.3} s to {:.3} s is unusable ({}): {range}",
-                    g.start_s, g.end_s, e.kind
-                ))
+                err(
+                    LoadErrorKind::Window,
+                    format!(
+                        "the free swing from {:.3} s to {:.3} s is unusable ({}): {range}",
+                        g.start_s, g.end_s, e.kind
+                    ),
+                )
             })?
         };
         let cut_before = g.start_s - t_first;

@@ -2,7 +2,7 @@
 //! (`t`, `time`, `theta`, `encoder`, a column named by its unit), and the unit in a suffix or
 //! in brackets (`t_ms`, `angle [deg]`, `Time ( s )`, `"time, s"`).
 
-use super::super::LoadError;
+use super::super::{LoadError, LoadErrorKind as K};
 use crate::units::{AngleUnit, TimeUnit};
 
 /// Header names taken for the time column when none is chosen.
@@ -123,9 +123,12 @@ pub(super) fn unquote(s: &str) -> &str {
     s.strip_prefix('"').and_then(|r| r.strip_suffix('"')).unwrap_or(s).trim()
 }
 
+/// Builds a [`LoadError`] of a kind, at a line, with a message.
+pub(super) type ErrAt<'a> = dyn Fn(fn(String) -> K, Option<u64>, String) -> LoadError + 'a;
+
 /// Choose a column: by name or 1-based index when given, else by the usual names.
 pub(super) fn choose(
-    err: &dyn Fn(Option<u64>, String) -> LoadError,
+    err: &ErrAt<'_>,
     hline: u64,
     header: &[String],
     given: Option<&str>,
@@ -140,6 +143,7 @@ pub(super) fn choose(
             return match g.parse::<usize>() {
                 Ok(i) if i >= 1 && i <= header.len() => Ok(i - 1),
                 _ => Err(err(
+                    K::Column,
                     Some(hline),
                     format!(
                         "{what} column {g} does not exist: expected 1 to {} (columns: {list})",
@@ -154,10 +158,12 @@ pub(super) fn choose(
         return match matches.as_slice() {
             [i] => Ok(*i),
             [] => Err(err(
+                K::Column,
                 Some(hline),
                 format!("no {what} column named '{g}': expected one of {list}"),
             )),
             _ => Err(err(
+                K::Column,
                 Some(hline),
                 format!(
                     "{what} column name '{g}' appears more than once: give its index with {flag}"
@@ -178,6 +184,7 @@ pub(super) fn choose(
     match matches.as_slice() {
         [i] => Ok(*i),
         [] => Err(err(
+            K::Column,
             Some(hline),
             format!(
                 "no {what} column: expected a header such as {} (columns: {list}), or choose one with {flag}",
@@ -185,6 +192,7 @@ pub(super) fn choose(
             ),
         )),
         [a, b, ..] => Err(err(
+            K::Column,
             Some(hline),
             format!(
                 "ambiguous {what} column: '{}' (column {}) and '{}' (column {}) both qualify: choose one with {flag}",
