@@ -61,7 +61,7 @@ pub enum BatchError {
         source: std::io::Error,
     },
     /// Nothing to fit.
-    #[error("no logs to fit: expected *.csv files in {0}")]
+    #[error("no logs to fit: expected *.csv, *.tsv or *.txt logs or *.toml article files in {0}")]
     NoInputs(String),
     /// The thread pool could not be built.
     #[error("cannot start {threads} worker threads: {detail}")]
@@ -73,7 +73,11 @@ pub enum BatchError {
     },
 }
 
-/// Gather the inputs: each directory contributes its `*.csv` files (not recursively), each file
+/// Extensions of the logs a directory contributes.
+pub const LOG_EXTENSIONS: [&str; 3] = ["csv", "tsv", "txt"];
+
+/// Gather the inputs: each directory contributes its `*.csv`, `*.tsv` and `*.txt` logs and its
+/// `*.toml` article files (not recursively), each file
 /// is taken as given (`*.toml` as an article file, anything else as a log). Sorted by path,
 /// duplicates removed. A listed file that does not exist is kept: its row will say so.
 pub fn collect_inputs(paths: &[PathBuf]) -> Result<Vec<Input>, BatchError> {
@@ -88,7 +92,7 @@ pub fn collect_inputs(paths: &[PathBuf]) -> Result<Vec<Input>, BatchError> {
                     source,
                 })?;
                 let path = e.path();
-                if path.is_file() && has_extension(&path, "csv") {
+                if path.is_file() && LOG_EXTENSIONS.iter().any(|x| has_extension(&path, x)) {
                     out.push(Input::Log(path));
                 } else if path.is_file() && has_extension(&path, "toml") {
                     out.push(Input::Article(path));
@@ -413,7 +417,7 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("swingfit-batch-unit-{}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(dir.join("sub")).unwrap_or(());
-        for f in ["b.csv", "a.CSV", "notes.txt", "art.toml", "sub/c.csv"] {
+        for f in ["b.csv", "a.CSV", "notes.md", "c.tsv", "d.txt", "art.toml", "sub/c.csv"] {
             std::fs::write(dir.join(f), "x").unwrap_or(());
         }
         let got = collect_inputs(&[dir.clone(), dir.join("b.csv"), dir.join("x.toml")])
@@ -425,6 +429,8 @@ mod tests {
                 Input::Log(dir.join("a.CSV")),
                 Input::Article(dir.join("art.toml")),
                 Input::Log(dir.join("b.csv")),
+                Input::Log(dir.join("c.tsv")),
+                Input::Log(dir.join("d.txt")),
                 Input::Article(dir.join("x.toml"))
             ]
         );

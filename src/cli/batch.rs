@@ -20,7 +20,8 @@ use crate::report::{atomic, wire};
 /// Arguments of `batch`.
 #[derive(Args, Debug)]
 pub struct BatchArgs {
-    /// Folders (their *.csv logs) and/or log files; each log is fitted on its own.
+    /// Folders (their *.csv, *.tsv and *.txt logs and *.toml article files) and/or files; each log
+    /// is fitted on its own.
     #[arg(required = true, value_name = "DIR|FILE")]
     pub inputs: Vec<PathBuf>,
     /// Folder for summary.csv and summary.jsonl (created if missing).
