@@ -7,7 +7,7 @@
 use std::fmt::Write as _;
 
 use crate::physical::budget::Budget;
-use crate::report::table::num;
+use crate::report::typeset::num;
 
 /// Words for a value's key.
 fn label(key: &str) -> &str {

@@ -25,7 +25,7 @@ use serde::Serialize;
 
 use crate::plan::search::{Blocked, Bounds, Found, SearchOutcome, Target};
 use crate::plan::{Plan, Prediction, Record};
-use crate::report::table::num;
+use crate::report::typeset::num;
 
 /// Schema tag of the plan JSON.
 pub const PLAN_SCHEMA: &str = "swingfit.plan.v1";

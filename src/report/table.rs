@@ -1,37 +1,17 @@
 //! Plain-text tables for the terminal and for lab notebooks.
 //!
-//! Every number carries its unit and, where it is an estimate, its ± 95 % half-width.
+//! Every number carries its unit and, where it is an estimate, its ± 95 % half-width. Numbers
+//! and units are written as on the sheet ([`crate::report::typeset`]): unit symbols (kg·m²,
+//! N·m·s/rad, rad/s²), the minus sign U+2212, "not available" instead of `NaN`.
 
 use std::fmt::Write as _;
 
 use crate::fit::{Estimate, FitOutcome};
 use crate::model::Term;
 use crate::physical::{PhysicalCoefficients, Quantity};
-
-/// Format `v` with `sig` significant digits, switching to exponent form for very small or large.
-pub fn num(v: f64, sig: usize) -> String {
-    if !v.is_finite() {
-        return format!("{v}");
-    }
-    if v == 0.0 {
-        return "0".into();
-    }
-    let mag = v.abs().log10().floor() as i32;
-    if !(-3..6).contains(&mag) {
-        return format!("{:.*e}", sig.saturating_sub(1), v);
-    }
-    let decimals = (sig as i32 - 1 - mag).max(0) as usize;
-    format!("{v:.decimals$}")
-}
-
-/// Digits to show so that the half-width keeps two significant figures.
-pub(crate) fn sig_for(value: f64, half: f64) -> usize {
-    if !(half.is_finite() && half > 0.0 && value != 0.0) {
-        return 6;
-    }
-    let d = value.abs().log10().floor() - half.log10().floor() + 2.0;
-    d.clamp(2.0, 12.0) as usize
-}
+use crate::report::sheet::model::{physical_quantity, physical_symbol};
+use crate::report::typeset::unit;
+pub use crate::report::typeset::{num, sig_for};
 
 fn row(out: &mut String, label: &str, e: &Estimate) {
     let half = 0.5 * (e.ci95.1 - e.ci95.0);
@@ -42,7 +22,7 @@ fn row(out: &mut String, label: &str, e: &Estimate) {
         label,
         num(e.value, sig),
         num(half, 2),
-        e.unit
+        unit(e.unit)
     );
 }
 
@@ -54,22 +34,26 @@ fn qrow(out: &mut String, label: &str, q: &Quantity) {
         label,
         num(q.value, sig),
         num(q.expanded, 2),
-        q.unit,
+        unit(q.unit),
         num(q.u_c, 2)
     );
 }
 
 /// What the user stated about one input of the physical coefficients, in words: its standard
 /// uncertainty, or that it was taken as exact.
-pub fn stated(value: f64, u: f64, unit: &str, what: &str) -> String {
-    if u > 0.0 {
+pub fn stated(value: f64, u_x: f64, unit_text: &str, what: &str) -> String {
+    let u = unit(unit_text);
+    if u_x > 0.0 {
         format!(
-            "{what} {} {unit} (standard uncertainty {} {unit})",
-            num(value, sig_for(value, u)),
-            num(u, 2)
+            "{what} {} {u} (standard uncertainty {} {u})",
+            num(value, sig_for(value, u_x)),
+            num(u_x, 2)
         )
     } else {
-        format!("{what} {value} {unit} (taken as exact: no uncertainty given)")
+        format!(
+            "{what} {} {u} (taken as exact: no uncertainty given)",
+            crate::report::typeset::minus(&value.to_string())
+        )
     }
 }
 
@@ -77,14 +61,18 @@ pub fn stated(value: f64, u: f64, unit: &str, what: &str) -> String {
 /// uncertainties, or "taken as exact".
 pub fn inputs_line(a: &crate::physical::ArticleInputs) -> String {
     let g = if a.gravity.u > 0.0 {
-        format!("{} (standard uncertainty {} m/s^2)", a.gravity.describe(), num(a.gravity.u, 2))
+        format!(
+            "{} (standard uncertainty {} m/s²)",
+            unit(&a.gravity.describe()),
+            num(a.gravity.u, 2)
+        )
     } else if a.gravity.source == crate::physical::GravitySource::Standard {
         format!(
             "{} (taken as exact; the local value differs from it by up to 0.3 %, give --gravity or --latitude)",
-            a.gravity.describe()
+            unit(&a.gravity.describe())
         )
     } else {
-        format!("{} (taken as exact: no uncertainty given)", a.gravity.describe())
+        format!("{} (taken as exact: no uncertainty given)", unit(&a.gravity.describe()))
     };
     format!(
         "  inputs: {}; {}; gravity: {g}",
@@ -122,7 +110,7 @@ pub fn fit_table(
     );
     let _ = writeln!(o);
     let _ = writeln!(o, "Per unit inertia (value ± 95 % interval half-width)");
-    row(&mut o, "natural frequency omega_n", &fit.omega_n);
+    row(&mut o, "natural frequency ωn", &fit.omega_n);
     for (t, e) in &fit.terms {
         row(&mut o, &format!("{} coefficient {}", t.name(), t.symbol()), e);
     }
@@ -140,7 +128,7 @@ pub fn fit_table(
         let _ = writeln!(o);
         let _ = writeln!(o, "Physical (value ± expanded uncertainty U, k = 2; GUM, JCGM 100:2008)");
         qrow(&mut o, "moment of inertia about pivot J", &p.inertia_pivot);
-        qrow(&mut o, "moment of inertia about CG J_cg", &p.inertia_cg);
+        qrow(&mut o, "moment of inertia about CG Jcg", &p.inertia_cg);
         qrow(&mut o, "radius of gyration about pivot", &p.gyration_pivot);
         match &p.gyration_cg {
             Some(q) => qrow(&mut o, "radius of gyration about CG", q),
@@ -152,22 +140,27 @@ pub fn fit_table(
             }
         }
         qrow(&mut o, "equivalent pendulum length", &p.equivalent_length);
-        let labels =
-            ["viscous coefficient c", "Coulomb friction torque tau_c", "quadratic coefficient c_q"];
         for t in Term::ALL {
-            if let Some(q) = &p.damping[t.index()] {
-                qrow(&mut o, labels[t.index()], q);
+            if let Some(q) = p.damping.get(t.index()).and_then(Option::as_ref) {
+                let label = format!("{} {}", physical_quantity(t), physical_symbol(t));
+                qrow(&mut o, &label, q);
             }
         }
         if let Some(q) = &p.damping_ratio {
-            qrow(&mut o, "viscous damping ratio zeta", q);
+            qrow(&mut o, "viscous damping ratio ζ", q);
+        }
+        if let Some(q) = &p.log_decrement {
+            qrow(&mut o, "logarithmic decrement δ", q);
+        }
+        if let Some(q) = &p.quality_factor {
+            qrow(&mut o, "quality factor Q", q);
         }
         match inputs {
             Some(a) => {
                 let _ = writeln!(o, "{}", inputs_line(a));
             }
             None => {
-                let _ = writeln!(o, "  gravity: {}", p.gravity.describe());
+                let _ = writeln!(o, "  gravity: {}", unit(&p.gravity.describe()));
             }
         }
     }
@@ -180,7 +173,7 @@ pub fn fit_table(
         "samples",
         "equilib. deg",
         "release deg",
-        "w0 deg/s",
+        "ω0 deg/s",
         "RMS rad",
         "noise rad",
         "LB p"
@@ -206,7 +199,7 @@ pub fn fit_table(
     let _ = writeln!(o);
     let _ = writeln!(
         o,
-        "Fit: converged ({} criterion) after {} iterations ({} over all continuation stages); RSS {} rad^2, dof {}",
+        "Fit: converged ({} criterion) after {} iterations ({} over all continuation stages); RSS {} rad², dof {}",
         format!("{:?}", fit.convergence).to_lowercase(),
         fit.iterations,
         fit.iterations_total,
@@ -251,12 +244,12 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
             e.damping.to_string(),
             "ok",
             num(e.rms_residual, 3),
-            format!("{:.1}", e.aic),
-            format!("{:.1}", e.bic),
+            crate::report::typeset::minus(&format!("{:.1}", e.aic)),
+            crate::report::typeset::minus(&format!("{:.1}", e.bic)),
             format!("{:.2}", e.noise_ratio),
             num(e.ljung_box_p, 2),
             if e.all_significant { "yes" } else { "no" },
-            e.outcome().map_or("-", |f| f.adequacy.verdict.name())
+            e.outcome().map_or("–", |f| f.adequacy.verdict.name())
         );
     }
     let _ = writeln!(o);
@@ -273,11 +266,10 @@ pub fn compare_table(c: &crate::fit::compare::Comparison) -> String {
 pub fn interval_method_text(m: &crate::fit::uncertainty::IntervalMethod) -> String {
     use crate::fit::uncertainty::IntervalMethod as M;
     match m {
-        M::Plain => {
-            "Student-t on s^2 (J^T J)^-1; residuals pass the Ljung-Box whiteness test".into()
-        }
+        M::Plain => "Student-t on s² (JᵀJ)⁻¹; residuals pass the Ljung–Box whiteness test".into(),
         M::Hac { rho1, bandwidth, dof } => format!(
-            "HAC sandwich covariance for correlated residuals (Ljung-Box rejects whiteness; lag-1 autocorrelation {rho1:.2}), Bartlett weights over {bandwidth} samples, t on {dof:.0} degrees of freedom (never narrower than s^2 (J^T J)^-1)"
+            "HAC sandwich covariance for correlated residuals (Ljung–Box rejects whiteness; lag-1 autocorrelation {}), Bartlett weights over {bandwidth} samples, t on {dof:.0} degrees of freedom (never narrower than s² (JᵀJ)⁻¹)",
+            crate::report::typeset::minus(&format!("{rho1:.2}"))
         ),
         M::Bootstrap { replicates, block_length, seed } => format!(
             "moving-block bootstrap, {replicates} refits, blocks of {block_length} samples, seed {seed} (never narrower than the analytic interval)"

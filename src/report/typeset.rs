@@ -67,7 +67,34 @@ pub fn minus(number: &str) -> String {
 /// A number for the page: `sig` significant digits with real minus signs, or "not available"
 /// when it is not finite (a quantity that could not be computed says so instead of `NaN`).
 pub fn num(v: f64, sig: usize) -> String {
-    if v.is_finite() { minus(&crate::report::table::num(v, sig)) } else { "not available".into() }
+    if v.is_finite() { minus(&digits(v, sig)) } else { "not available".into() }
+}
+
+/// The one rounding routine: `v` with `sig` significant digits in ASCII (hyphen-minus), in
+/// exponent form below 1e-3 and from 1e6 on. [`num`] is what a reader sees; this is for text
+/// other programs read back.
+pub fn digits(v: f64, sig: usize) -> String {
+    if !v.is_finite() {
+        return format!("{v}");
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let mag = v.abs().log10().floor() as i32;
+    if !(-3..6).contains(&mag) {
+        return format!("{:.*e}", sig.saturating_sub(1), v);
+    }
+    let decimals = (sig as i32 - 1 - mag).max(0) as usize;
+    format!("{v:.decimals$}")
+}
+
+/// Significant digits to show for `value` so that its uncertainty `half` keeps two.
+pub fn sig_for(value: f64, half: f64) -> usize {
+    if !(half.is_finite() && half > 0.0 && value != 0.0) {
+        return 6;
+    }
+    let d = value.abs().log10().floor() - half.log10().floor() + 2.0;
+    d.clamp(2.0, 12.0) as usize
 }
 
 /// A p-value for the page: three significant digits, `< 1e-300` when it underflowed, "not

@@ -9,7 +9,7 @@ use crate::fit::adequacy::{self, Adequacy, AdequacyReport};
 use crate::fit::compare::{BIC_TIE, CandidateEvidence, Comparison, EnvelopeFits};
 use crate::fit::workflow::Chosen;
 use crate::model::{DampingSet, Term};
-use crate::report::table::{num, sig_for};
+use crate::report::typeset::{num, sig_for};
 
 /// A p-value as people read it: two significant digits, "< 1e-4" below that.
 pub fn p_text(p: f64) -> String {

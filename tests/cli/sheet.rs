@@ -217,6 +217,21 @@ fn demo_article_sheet_has_physical_coefficients() {
     let got = j["value"].as_f64().expect("J");
     assert!((got - expect).abs() < 1e-9 * expect, "{got} vs {expect}");
     assert!(files(&out).contains(&"run2_phase.png".to_string()));
+    // The terminal table writes units and numbers as the sheet does.
+    let stdout = String::from_utf8_lossy(&run.stdout);
+    for symbol in
+        ["kg·m²", "N·m·s/rad", "rad/s²", "N·m·s²/rad²", "rad²", "ζ", "δ", "quality factor Q"]
+    {
+        assert!(stdout.contains(symbol), "terminal lacks {symbol}:\n{stdout}");
+    }
+    for ascii in ["kg*m^2", "N*m", "^2", "NaN"] {
+        assert!(!stdout.contains(ascii), "terminal shows {ascii}:\n{stdout}");
+    }
+    // Numbers of the tables (not the fit's notes, which quote settings) use the minus sign.
+    let tables = stdout.split("\nNote:").next().unwrap_or("");
+    assert!(!tables.contains("e-"), "hyphen-minus in an exponent:\n{tables}");
+    // The encoder run's initial velocity is negative: written with the minus sign U+2212.
+    assert!(stdout.lines().any(|l| l.contains("ba7_release60_counts.csv") && l.contains('−')));
 }
 
 #[test]

@@ -175,7 +175,7 @@ pub fn coefficient_rows(
 }
 
 /// Symbol of a damping term's physical coefficient (the per-unit-inertia one times J).
-fn physical_symbol(t: crate::model::Term) -> &'static str {
+pub fn physical_symbol(t: crate::model::Term) -> &'static str {
     use crate::model::Term;
     match t {
         Term::Viscous => "c",
@@ -188,7 +188,7 @@ fn physical_symbol(t: crate::model::Term) -> &'static str {
 }
 
 /// What a damping term's physical coefficient is, in words.
-fn physical_quantity(t: crate::model::Term) -> &'static str {
+pub fn physical_quantity(t: crate::model::Term) -> &'static str {
     use crate::model::Term;
     match t {
         Term::Viscous => "viscous damping coefficient",
